@@ -1,0 +1,1 @@
+//! Cleaning of measured vector fields: outlier detection and gap filling.
