@@ -1,1 +1,209 @@
-//! Cleaning of measured vector fields: outlier detection and gap filling.
+//! Cleaning of measured vector fields: outlier detection by the normalized median test,
+//! replacement of outliers and missing vectors from their valid neighbours, and a report of
+//! everything that was changed.
+//!
+//! The cleaned [`Series`] keeps the mask untouched: masked cells (a solid body, outside the
+//! light sheet) are never filled, because there is no flow there to reconstruct.
+
+mod fill;
+mod median_test;
+mod neighbourhood;
+
+pub use fill::fill_from_neighbours;
+pub use median_test::{normalized_residuals, MedianTest};
+
+use crate::field::Series;
+use serde::Serialize;
+
+/// Options of [`clean`]. `Default` gives the published defaults.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields, default)]
+pub struct CleanOptions {
+    /// The normalized median test's parameters.
+    pub test: MedianTest,
+    /// How many detect → replace passes at most (METHODS.md §4: 2–3). Stops early when a
+    /// pass flags nothing new.
+    pub passes: usize,
+}
+
+impl Default for CleanOptions {
+    fn default() -> Self {
+        CleanOptions {
+            test: MedianTest::default(),
+            passes: 3,
+        }
+    }
+}
+
+/// Why a vector was replaced.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Reason {
+    /// Flagged by the normalized median test.
+    Outlier,
+    /// Missing in the source (NaN or flagged invalid by the exporting program).
+    Gap,
+}
+
+/// One replaced vector.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Replaced {
+    pub snapshot: usize,
+    pub i: usize,
+    pub j: usize,
+    pub reason: Reason,
+    /// Detection pass (1-based) for outliers, 0 for gaps.
+    pub pass: usize,
+}
+
+/// What [`clean`] changed, for the user and for later steps.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CleanReport {
+    /// The options used, with ε resolved to velocity units.
+    pub threshold: f64,
+    pub epsilon: f64,
+    /// Outliers flagged per snapshot.
+    pub outliers_per_snapshot: Vec<usize>,
+    /// Gaps filled per snapshot.
+    pub gaps_per_snapshot: Vec<usize>,
+    /// Vectors that could not be filled (a region with no valid neighbour at all).
+    pub unfilled: usize,
+    /// Every replaced vector.
+    pub replaced: Vec<Replaced>,
+    /// Number of unmasked vectors over the series (the denominator of the fractions).
+    pub valid_cells: usize,
+    /// Replaced vectors (outliers + gaps) as a fraction of the unmasked vectors.
+    pub replaced_fraction: f64,
+    /// Passes actually run.
+    pub passes_run: usize,
+}
+
+impl CleanReport {
+    pub fn total_outliers(&self) -> usize {
+        self.outliers_per_snapshot.iter().sum()
+    }
+    pub fn total_gaps(&self) -> usize {
+        self.gaps_per_snapshot.iter().sum()
+    }
+    /// Above this fraction of replaced vectors the data are too poor to trust without a
+    /// look: good planar PIV has a few percent spurious vectors (common practice,
+    /// METHODS.md §4 suggests a warning above 5–10 %).
+    pub const WARN_FRACTION: f64 = 0.05;
+
+    /// A plain-language warning when many vectors had to be replaced.
+    pub fn warning(&self) -> Option<String> {
+        (self.replaced_fraction > Self::WARN_FRACTION).then(|| {
+            format!(
+                "{:.1} % of the vectors were replaced (outliers and gaps); good planar PIV has a few \
+                 percent. Results downstream (modes, FTLE) may reflect the filling, not the flow.",
+                100.0 * self.replaced_fraction
+            )
+        })
+    }
+}
+
+/// Flags outliers snapshot by snapshot with the normalized median test, replaces them and
+/// the source's missing vectors from valid neighbours, and repeats up to `opts.passes`
+/// times. Returns the cleaned series (no gaps left unless a whole region had no data) and
+/// the report.
+pub fn clean(series: &Series, opts: &CleanOptions) -> (Series, CleanReport) {
+    let (nx, ny, nt) = (series.nx(), series.ny(), series.nt());
+    let plane = nx * ny;
+    let eps = opts.test.resolve_epsilon(series);
+    let mask = series.mask();
+    let mut u = series.u().to_vec();
+    let mut v = series.v().to_vec();
+    let mut out_gaps = vec![false; nt * plane];
+    let mut report = CleanReport {
+        threshold: opts.test.threshold,
+        epsilon: eps,
+        outliers_per_snapshot: vec![0; nt],
+        gaps_per_snapshot: vec![0; nt],
+        unfilled: 0,
+        replaced: Vec::new(),
+        valid_cells: nt * (plane - series.masked_count()),
+        replaced_fraction: 0.0,
+        passes_run: 0,
+    };
+    let mut passes_run = 0;
+    for k in 0..nt {
+        let range = k * plane..(k + 1) * plane;
+        let (uk, vk) = (&mut u[range.clone()], &mut v[range.clone()]);
+        // Missing = no usable value right now: source gaps first, then flagged outliers.
+        let mut missing: Vec<bool> = match series.gaps_at(k) {
+            Some(g) => g.to_vec(),
+            None => vec![false; plane],
+        };
+        for (c, &m) in missing.iter().enumerate() {
+            if m {
+                report.gaps_per_snapshot[k] += 1;
+                report.replaced.push(Replaced {
+                    snapshot: k,
+                    i: c % nx,
+                    j: c / nx,
+                    reason: Reason::Gap,
+                    pass: 0,
+                });
+            }
+        }
+        // Replaced vectors serve as neighbours in later passes but are not judged again.
+        let mut replaced = missing.clone();
+        // Source gaps are filled before detection so that the test sees full neighbourhoods.
+        fill_from_neighbours(uk, vk, nx, ny, mask, &mut missing);
+        for pass in 1..=opts.passes {
+            let mut flagged = opts.test.detect(uk, vk, nx, ny, mask, &missing, eps);
+            flagged.retain(|&c| !replaced[c]);
+            if flagged.is_empty() {
+                break;
+            }
+            passes_run = passes_run.max(pass);
+            for &c in &flagged {
+                missing[c] = true;
+                replaced[c] = true;
+                report.outliers_per_snapshot[k] += 1;
+                report.replaced.push(Replaced {
+                    snapshot: k,
+                    i: c % nx,
+                    j: c / nx,
+                    reason: Reason::Outlier,
+                    pass,
+                });
+            }
+            fill_from_neighbours(uk, vk, nx, ny, mask, &mut missing);
+        }
+        for (c, &m) in missing.iter().enumerate() {
+            if m {
+                out_gaps[k * plane + c] = true;
+                report.unfilled += 1;
+            }
+        }
+    }
+    report.passes_run = passes_run;
+    report.replaced_fraction = report.replaced.len() as f64 / report.valid_cells.max(1) as f64;
+    let gaps = out_gaps.iter().any(|&g| g).then_some(out_gaps);
+    (series.with_velocity(u, v, gaps), report)
+}
+
+/// Outliers per snapshot found by one pass of the test on the data as they are (gaps are
+/// not filled first and do not count as neighbours). For summaries: nothing is changed.
+pub fn count_outliers(series: &Series, test: &MedianTest) -> Vec<usize> {
+    let (nx, ny) = (series.nx(), series.ny());
+    let eps = test.resolve_epsilon(series);
+    (0..series.nt())
+        .map(|k| {
+            let missing = series
+                .gaps_at(k)
+                .map_or_else(|| vec![false; nx * ny], <[bool]>::to_vec);
+            test.detect(
+                series.u_at(k),
+                series.v_at(k),
+                nx,
+                ny,
+                series.mask(),
+                &missing,
+                eps,
+            )
+            .len()
+        })
+        .collect()
+}

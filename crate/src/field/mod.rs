@@ -5,10 +5,12 @@ mod derived;
 mod error;
 mod grid;
 mod series;
+mod summary;
 mod units;
 
 pub use derived::{speed, vorticity};
 pub use error::FieldError;
 pub use grid::{Axis, Grid, GRID_TOLERANCE};
 pub use series::{Series, SeriesParts};
+pub use summary::Summary;
 pub use units::{LengthUnit, TimeUnit, Units};
