@@ -19,6 +19,8 @@
 pub mod clean;
 pub mod field;
 pub mod io;
+pub mod lagrangian;
+pub mod render;
 
 #[cfg(target_arch = "wasm32")]
 pub mod wasm;

@@ -13,7 +13,7 @@
 
 use rand::{RngExt, SeedableRng};
 use rand_distr::{Distribution, Normal};
-use sillage::clean::{clean, CleanOptions, CleanReport, MedianTest, Reason};
+use sillage::clean::{clean, CleanOptions, CleanReport, MedianTest, Reason, SnapshotView};
 use sillage::field::{Series, SeriesParts};
 
 const SEED: u64 = 20261201;
@@ -89,25 +89,28 @@ fn detection_rate_and_false_alarms() {
     let (mut found, mut seeded, mut false_alarms, mut good) = (0usize, 0usize, 0usize, 0usize);
     for k in 0..s.series.nt() {
         let flagged = test.detect(
-            s.series.u_at(k),
-            s.series.v_at(k),
-            nx,
-            ny,
-            s.series.mask(),
-            &missing,
+            &SnapshotView {
+                u: s.series.u_at(k),
+                v: s.series.v_at(k),
+                nx,
+                ny,
+                mask: s.series.mask(),
+                missing: &missing,
+            },
             0.1 / 8.0,
         );
         let mut is_flagged = vec![false; nx * ny];
         for c in flagged {
             is_flagged[c] = true;
         }
-        for c in 0..nx * ny {
-            if s.outliers[k * nx * ny + c] {
+        let truth = &s.outliers[k * nx * ny..(k + 1) * nx * ny];
+        for (&outlier, &flag) in truth.iter().zip(&is_flagged) {
+            if outlier {
                 seeded += 1;
-                found += is_flagged[c] as usize;
+                found += flag as usize;
             } else {
                 good += 1;
-                false_alarms += is_flagged[c] as usize;
+                false_alarms += flag as usize;
             }
         }
     }

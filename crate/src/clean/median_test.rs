@@ -12,6 +12,18 @@ use super::neighbourhood::{gather, median};
 use crate::field::Series;
 use serde::{Deserialize, Serialize};
 
+/// One snapshot as the test sees it: both components, `(ny, nx)`, the mask and the vectors
+/// that are missing right now (they are neither judged nor used as neighbours).
+#[derive(Debug, Clone, Copy)]
+pub struct SnapshotView<'a> {
+    pub u: &'a [f32],
+    pub v: &'a [f32],
+    pub nx: usize,
+    pub ny: usize,
+    pub mask: &'a [bool],
+    pub missing: &'a [bool],
+}
+
 /// Parameters of the normalized median test.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields, default)]
@@ -81,16 +93,15 @@ impl MedianTest {
 
     /// The larger of the two components' normalized residuals at every cell of one snapshot
     /// (`NaN` where the test cannot judge: masked, missing, or fewer than 3 valid neighbours).
-    pub fn residuals(
-        &self,
-        u: &[f32],
-        v: &[f32],
-        nx: usize,
-        ny: usize,
-        mask: &[bool],
-        missing: &[bool],
-        eps: f64,
-    ) -> Vec<f64> {
+    pub fn residuals(&self, snap: &SnapshotView, eps: f64) -> Vec<f64> {
+        let SnapshotView {
+            u,
+            v,
+            nx,
+            ny,
+            mask,
+            missing,
+        } = *snap;
         let usable = |c: usize| !mask[c] && !missing[c];
         let mut out = vec![f64::NAN; nx * ny];
         for j in 0..ny {
@@ -116,17 +127,8 @@ impl MedianTest {
 
     /// Flat indices of the vectors of one snapshot that fail the test. All vectors are judged
     /// on the same state of the field, so the result does not depend on scan order.
-    pub fn detect(
-        &self,
-        u: &[f32],
-        v: &[f32],
-        nx: usize,
-        ny: usize,
-        mask: &[bool],
-        missing: &[bool],
-        eps: f64,
-    ) -> Vec<usize> {
-        self.residuals(u, v, nx, ny, mask, missing, eps)
+    pub fn detect(&self, snap: &SnapshotView, eps: f64) -> Vec<usize> {
+        self.residuals(snap, eps)
             .iter()
             .enumerate()
             .filter(|(_, &r)| r > self.threshold)
@@ -142,15 +144,15 @@ pub fn normalized_residuals(series: &Series, k: usize, test: &MedianTest) -> Vec
         .gaps_at(k)
         .map_or_else(|| vec![false; nx * ny], <[bool]>::to_vec);
     let eps = test.resolve_epsilon(series);
-    test.residuals(
-        series.u_at(k),
-        series.v_at(k),
+    let view = SnapshotView {
+        u: series.u_at(k),
+        v: series.v_at(k),
         nx,
         ny,
-        series.mask(),
-        &missing,
-        eps,
-    )
+        mask: series.mask(),
+        missing: &missing,
+    };
+    test.residuals(&view, eps)
 }
 
 #[cfg(test)]
@@ -174,8 +176,33 @@ mod tests {
         let missing = vec![false; 25];
         let t = MedianTest::default();
         u[12] = 1.3;
-        assert_eq!(t.detect(&u, &v, nx, ny, &mask, &missing, 0.1), vec![12]);
+        assert_eq!(
+            t.detect(
+                &SnapshotView {
+                    u: &u,
+                    v: &v,
+                    nx,
+                    ny,
+                    mask: &mask,
+                    missing: &missing
+                },
+                0.1
+            ),
+            vec![12]
+        );
         u[12] = 1.1 - 1e-6;
-        assert!(t.detect(&u, &v, nx, ny, &mask, &missing, 0.1).is_empty());
+        assert!(t
+            .detect(
+                &SnapshotView {
+                    u: &u,
+                    v: &v,
+                    nx,
+                    ny,
+                    mask: &mask,
+                    missing: &missing
+                },
+                0.1
+            )
+            .is_empty());
     }
 }

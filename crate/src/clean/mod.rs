@@ -10,7 +10,7 @@ mod median_test;
 mod neighbourhood;
 
 pub use fill::fill_from_neighbours;
-pub use median_test::{normalized_residuals, MedianTest};
+pub use median_test::{normalized_residuals, MedianTest, SnapshotView};
 
 use crate::field::Series;
 use serde::Serialize;
@@ -151,7 +151,17 @@ pub fn clean(series: &Series, opts: &CleanOptions) -> (Series, CleanReport) {
         // Source gaps are filled before detection so that the test sees full neighbourhoods.
         fill_from_neighbours(uk, vk, nx, ny, mask, &mut missing);
         for pass in 1..=opts.passes {
-            let mut flagged = opts.test.detect(uk, vk, nx, ny, mask, &missing, eps);
+            let mut flagged = opts.test.detect(
+                &SnapshotView {
+                    u: uk,
+                    v: vk,
+                    nx,
+                    ny,
+                    mask,
+                    missing: &missing,
+                },
+                eps,
+            );
             flagged.retain(|&c| !replaced[c]);
             if flagged.is_empty() {
                 break;
@@ -195,12 +205,14 @@ pub fn count_outliers(series: &Series, test: &MedianTest) -> Vec<usize> {
                 .gaps_at(k)
                 .map_or_else(|| vec![false; nx * ny], <[bool]>::to_vec);
             test.detect(
-                series.u_at(k),
-                series.v_at(k),
-                nx,
-                ny,
-                series.mask(),
-                &missing,
+                &SnapshotView {
+                    u: series.u_at(k),
+                    v: series.v_at(k),
+                    nx,
+                    ny,
+                    mask: series.mask(),
+                    missing: &missing,
+                },
                 eps,
             )
             .len()

@@ -1,2 +1,29 @@
 //! wasm-bindgen bindings for the browser page. Only argument conversion lives here: every
-//! number is computed by the core modules.
+//! number is computed by the core modules ([`crate::io`], [`crate::field`],
+//! [`crate::render`]); every error reaches JavaScript as an `Error` carrying the core's
+//! message.
+//!
+//! JavaScript sees: the `Dataset` class (a loaded series and what can be drawn from it),
+//! free functions for colour maps, ticks and the list of fields, and `takePanicMessage`,
+//! which returns the message of a panic after a call trapped.
+
+mod dataset;
+mod display;
+mod panic;
+
+pub use dataset::Dataset;
+pub use display::{colormap_rgba, format_number, mask_color, quantities, ticks};
+pub use panic::take_panic_message;
+
+use wasm_bindgen::prelude::*;
+
+/// Runs once when the module is instantiated.
+#[wasm_bindgen(start)]
+pub fn start() {
+    panic::install();
+}
+
+/// A core error as a JavaScript `Error` with the core's message.
+pub(crate) fn js_error(e: impl std::fmt::Display) -> JsError {
+    JsError::new(&e.to_string())
+}
