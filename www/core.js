@@ -53,8 +53,13 @@ class Dataset {
   defaultRange(quantity, k, scope) {
     return Array.from(call(() => this.#inner.defaultRange(quantity, k, scope)));
   }
-  /** RGBA bytes, nx × ny, top row first. */
-  render(quantity, k, lo, hi) { return call(() => this.#inner.render(quantity, k, lo, hi)); }
+  /**
+   * RGBA bytes, nx × ny, top row first. Optional: a colour map name (default: the field's
+   * own) and the no-data colour as 4 RGBA bytes (default: the core's neutral grey).
+   */
+  render(quantity, k, lo, hi, colormap, mask) {
+    return call(() => this.#inner.render(quantity, k, lo, hi, colormap, mask));
+  }
   free() { this.#inner.free(); }
 }
 

@@ -14,7 +14,7 @@ const DEMO_URL = 'demo/fin-wake.npz';
 /** Playback pace: snapshots per second of wall-clock time. */
 const PLAYBACK_FPS = 15;
 /** Width kept free beside the map for the colour bar (CSS px), plus the gap between them. */
-const LEGEND_RESERVE = 104;
+const LEGEND_RESERVE = 112;
 
 const $ = (id) => document.getElementById(id);
 

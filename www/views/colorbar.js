@@ -1,5 +1,6 @@
 // The colour bar: the colour map of the field shown, with tick labels from the core, the
-// unit above it and a "no data" swatch below. Lines up with the field map's plot box.
+// field's name and unit along its side and a "no data" swatch below. Lines up with the field
+// map's plot box.
 import { fitCanvas, toImageData, FONT, TITLE_FONT, INK, INK_SOFT } from './canvas.js';
 
 const BAR_WIDTH = 16;
@@ -8,6 +9,8 @@ const GAP = 4;
 const PAD_RIGHT = 6;
 const PX_PER_TICK = 46;
 const SWATCH = 12;
+/** Room for the rotated title beside the tick labels. */
+const TITLE_BAND = 20;
 
 export function createColorbar(canvas, core) {
   const strip = document.createElement('canvas');
@@ -27,22 +30,21 @@ export function createColorbar(canvas, core) {
 
   return {
     /**
-     * Draws the bar for `view` ({colormap, range, unit}) next to a plot `box`
-     * ({top, height, cssHeight} from the field map).
+     * Draws the bar for `view` ({colormap, range, unit, quantityLabel}) next to a plot `box`
+     * ({top, height, cssHeight} from the field map). Returns the width used (CSS px).
      */
     draw(view, box) {
       const ticks = core.ticks(view.range[0], view.range[1],
         Math.max(2, Math.round(box.height / PX_PER_TICK)));
-      const unit = [ticks.scale, view.unit === '1' ? '' : view.unit].filter(Boolean).join(' ')
-        || 'no unit';
+      const unit = [ticks.scale, view.unit === '1' ? '' : view.unit].filter(Boolean).join(' ');
+      const title = unit ? `${view.quantityLabel} (${unit})` : view.quantityLabel;
       const measure = canvas.getContext('2d');
       measure.font = FONT;
       const labelWidth = Math.max(0, ...ticks.ticks.map((t) => measure.measureText(t.label).width));
-      measure.font = TITLE_FONT;
+      const labelsRight = BAR_WIDTH + TICK_LENGTH + GAP + labelWidth;
       const width = Math.ceil(Math.max(
-        BAR_WIDTH + TICK_LENGTH + GAP + labelWidth,
-        measure.measureText(unit).width,
-        SWATCH + GAP + 60,
+        labelsRight + TITLE_BAND,
+        SWATCH + GAP + measure.measureText('no data').width + 2,
       )) + PAD_RIGHT;
 
       paintStrip(view.colormap);
@@ -53,13 +55,19 @@ export function createColorbar(canvas, core) {
       ctx.lineWidth = 1;
       ctx.strokeRect(0.5, box.top - 0.5, BAR_WIDTH - 1, box.height + 1);
 
+      ctx.save();
       ctx.font = TITLE_FONT;
       ctx.fillStyle = INK;
-      ctx.textAlign = 'left';
-      ctx.textBaseline = 'alphabetic';
-      ctx.fillText(unit, 0, box.top - 10);
+      ctx.textAlign = 'center';
+      ctx.textBaseline = 'middle';
+      ctx.translate(labelsRight + TITLE_BAND / 2 + 2, box.top + box.height / 2);
+      ctx.rotate(-Math.PI / 2);
+      ctx.fillText(title, 0, 0);
+      ctx.restore();
 
       ctx.font = FONT;
+      ctx.fillStyle = INK;
+      ctx.textAlign = 'left';
       ctx.textBaseline = 'middle';
       ctx.beginPath();
       for (const t of ticks.ticks) {
@@ -77,7 +85,8 @@ export function createColorbar(canvas, core) {
       ctx.fillStyle = INK_SOFT;
       ctx.fillText('no data', SWATCH + GAP + 2, swatchTop + SWATCH / 2);
 
-      canvas.setAttribute('aria-label', `Colour scale in ${unit}: ${ticks.ticks.map((t) => t.label).join(', ')}`);
+      canvas.setAttribute('aria-label',
+        `Colour scale of ${title}: ${ticks.ticks.map((t) => t.label).join(', ')}`);
       return width;
     },
   };

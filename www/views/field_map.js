@@ -129,8 +129,9 @@ export function createFieldMap(canvas, core) {
 
       const lo = core.formatNumber(view.range[0], 3);
       const hi = core.formatNumber(view.range[1], 3);
+      const unit = view.unit === '1' ? '' : ` ${view.unit}`;
       canvas.setAttribute('aria-label',
-        `${view.quantityLabel} at t = ${time}, colours from ${lo} to ${hi} ${view.unit}`);
+        `${view.quantityLabel} at t = ${time}, colours from ${lo} to ${hi}${unit}`);
       return box;
     },
   };

@@ -19,7 +19,7 @@ pub struct SolidBodyRotation {
     pub omega: f64,
 }
 
-/// Simple shear u = (γy, 0): ∇F = [[1, γT], [0, 1]], σ₁ = γT/2 + √(1 + (γT/2)²); stretching
+/// Simple shear u = (γy, 0): ∇F = `[[1, γT], [0, 1]]`, σ₁ = γT/2 + √(1 + (γT/2)²); stretching
 /// grows linearly, not exponentially, so σ → 0 as T grows.
 #[derive(Debug, Clone, Copy)]
 pub struct SimpleShear {

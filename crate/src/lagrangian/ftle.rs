@@ -63,7 +63,7 @@ pub enum FtleFlag {
     NoValue = 4,
 }
 
-/// Singular values σ₁ ≥ σ₂ ≥ 0 of a 2×2 matrix [[a, b], [c, d]] in closed form [D]:
+/// Singular values σ₁ ≥ σ₂ ≥ 0 of a 2×2 matrix `[[a, b], [c, d]]` in closed form (derived from the definitions):
 /// p = hypot(a + d, c − b), q = hypot(a − d, b + c), σ₁ = (p + q)/2, σ₂ = |p − q|/2.
 /// Avoids forming Cᵀ C, which squares the conditioning and can return a negative λmin.
 #[inline]

@@ -6,7 +6,9 @@
 //! * [`integrate_rk4`] (fixed step) and [`integrate_dopri`] (Dormand–Prince 5(4), error
 //!   control) advance any [`System`]; [`engine`] seeds a [`TracerGrid`], applies the
 //!   [`BoundaryPolicy`] and returns per-tracer positions, exit times and status.
-//! * [`ftle`] computes σ by the three routes to ∇F of METHODS.md §1.
+//! * [`ftle`] computes σ by the three routes to ∇F of METHODS.md §1, with the exit-time map
+//!   and the det ∇F = 1 quality map; [`ridges`] extracts ridge polylines; [`sequence`]
+//!   computes FTLE for many start times, directly or by flow-map composition.
 //!
 //! Conventions: positions and times f64 in the series' units (SI inside); horizon
 //! T = t − t₀, negative for backward time; FTLE in 1/time; maps `(ny, nx)` row-major over

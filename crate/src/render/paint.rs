@@ -1,7 +1,9 @@
 //! Scalar field → RGBA pixels through a colour map: the picture the page puts on a canvas
 //! and the CLI will write as PNG.
 
-use super::colormap::{mask_rgba, Colormap};
+#[cfg(doc)]
+use super::colormap::mask_rgba;
+use super::colormap::Colormap;
 use super::quantity::{valid_cells, Quantity};
 use super::RenderError;
 use crate::field::{Grid, Series};
@@ -85,13 +87,16 @@ pub fn image_extent(g: &Grid) -> [f64; 4] {
     ]
 }
 
-/// Picture of quantity `q` at snapshot `k` in the quantity's own colour map, masked cells
-/// and missing vectors in the neutral grey of [`mask_rgba`].
+/// Picture of quantity `q` at snapshot `k` through colour map `map`, masked cells and
+/// missing vectors in `missing` (the defaults are the quantity's own map,
+/// [`Quantity::colormap`], and the neutral grey of [`mask_rgba`]).
 pub fn quantity_image(
     s: &Series,
     q: Quantity,
     k: usize,
     range: ColorRange,
+    map: &Colormap,
+    missing: [u8; 4],
 ) -> Result<Vec<u8>, RenderError> {
     let values = q.compute(s, k)?;
     let valid = valid_cells(s, k);
@@ -100,9 +105,9 @@ pub fn quantity_image(
         &valid,
         s.nx(),
         s.ny(),
-        Colormap::get(q.colormap()),
+        map,
         range,
-        mask_rgba(),
+        missing,
     ))
 }
 

@@ -4,8 +4,8 @@ use super::js_error;
 use crate::field::Series;
 use crate::io::{read_series, NamedBytes, ReadOptions};
 use crate::render::{
-    default_range, image_extent, quantity_image, snapshot_label, summary, ColorRange, Quantity,
-    RangeScope, TimeFormat,
+    default_range, image_extent, mask_rgba, quantity_image, snapshot_label, summary, ColorRange,
+    Colormap, Quantity, RangeScope, TimeFormat,
 };
 use js_sys::{Array, Uint8Array};
 use wasm_bindgen::prelude::*;
@@ -185,9 +185,32 @@ impl Dataset {
     }
 
     /// RGBA picture (`4·nx·ny` bytes, first row = top, largest y) of field `name` at
-    /// snapshot `k`, in the field's colour map over `[lo, hi]`, no-data cells grey.
-    pub fn render(&self, name: &str, k: usize, lo: f64, hi: f64) -> Result<Vec<u8>, JsError> {
+    /// snapshot `k` over `[lo, hi]`. Optional: `colormap` (a name; default the field's own)
+    /// and `mask` (4 RGBA bytes for cells without data; default the neutral grey).
+    pub fn render(
+        &self,
+        name: &str,
+        k: usize,
+        lo: f64,
+        hi: f64,
+        colormap: Option<String>,
+        mask: Option<Vec<u8>>,
+    ) -> Result<Vec<u8>, JsError> {
+        let q = quantity(name)?;
         let range = ColorRange::new(lo, hi).map_err(js_error)?;
-        quantity_image(&self.series, quantity(name)?, k, range).map_err(js_error)
+        let kind = match colormap {
+            Some(c) => c.parse().map_err(|e: String| JsError::new(&e))?,
+            None => q.colormap(),
+        };
+        let missing = match mask {
+            Some(m) => <[u8; 4]>::try_from(m.as_slice()).map_err(|_| {
+                JsError::new(&format!(
+                    "the no-data colour needs 4 bytes (red, green, blue, alpha), got {}",
+                    m.len()
+                ))
+            })?,
+            None => mask_rgba(),
+        };
+        quantity_image(&self.series, q, k, range, Colormap::get(kind), missing).map_err(js_error)
     }
 }
