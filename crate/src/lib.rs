@@ -20,6 +20,7 @@ pub mod clean;
 pub mod field;
 pub mod io;
 pub mod lagrangian;
+pub mod modes;
 pub mod render;
 
 #[cfg(target_arch = "wasm32")]

@@ -69,22 +69,14 @@ fn synthetic(fraction: f64) -> Synthetic {
         ..Default::default()
     })
     .unwrap();
-    Synthetic {
-        series,
-        truth_u: tu,
-        truth_v: tv,
-        outliers,
-    }
+    Synthetic { series, truth_u: tu, truth_v: tv, outliers }
 }
 
 #[test]
 fn detection_rate_and_false_alarms() {
     let s = synthetic(0.05);
     let (nx, ny) = (s.series.nx(), s.series.ny());
-    let test = MedianTest {
-        threshold: 2.0,
-        epsilon: Some(0.1 / 8.0),
-    };
+    let test = MedianTest { threshold: 2.0, epsilon: Some(0.1 / 8.0) };
     let missing = vec![false; nx * ny];
     let (mut found, mut seeded, mut false_alarms, mut good) = (0usize, 0usize, 0usize, 0usize);
     for k in 0..s.series.nt() {
@@ -126,13 +118,8 @@ fn detection_rate_and_false_alarms() {
 #[test]
 fn cleaning_restores_the_field() {
     let s = synthetic(0.05);
-    let opts = CleanOptions {
-        test: MedianTest {
-            threshold: 2.0,
-            epsilon: Some(0.1 / 8.0),
-        },
-        passes: 3,
-    };
+    let opts =
+        CleanOptions { test: MedianTest { threshold: 2.0, epsilon: Some(0.1 / 8.0) }, passes: 3 };
     let (cleaned, report) = clean(&s.series, &opts);
     let rms = |u: &[f32], v: &[f32]| {
         let e: f64 = u
@@ -167,11 +154,7 @@ fn clean_data_is_not_harmed() {
     let s = synthetic(0.0);
     let (cleaned, report) = clean(&s.series, &CleanOptions::default());
     let err = |u: &[f32]| -> f64 {
-        let e: f64 = u
-            .iter()
-            .zip(&s.truth_u)
-            .map(|(a, b)| ((a - b) as f64).powi(2))
-            .sum();
+        let e: f64 = u.iter().zip(&s.truth_u).map(|(a, b)| ((a - b) as f64).powi(2)).sum();
         (e / u.len() as f64).sqrt()
     };
     let (before, after) = (err(s.series.u()), err(cleaned.u()));
@@ -179,14 +162,7 @@ fn clean_data_is_not_harmed() {
         "noise only: replaced {:.4}, rms {before:.5} -> {after:.5}",
         report.replaced_fraction
     );
-    assert!(
-        report.replaced_fraction < CleanReport::WARN_FRACTION,
-        "{}",
-        report.replaced_fraction
-    );
+    assert!(report.replaced_fraction < CleanReport::WARN_FRACTION, "{}", report.replaced_fraction);
     assert!(report.warning().is_none());
-    assert!(
-        after <= before * 1.02,
-        "cleaning made clean data worse: {before} -> {after}"
-    );
+    assert!(after <= before * 1.02, "cleaning made clean data worse: {before} -> {after}");
 }

@@ -87,9 +87,7 @@ mod tests {
     #[test]
     fn fills_holes_inward_and_respects_mask() {
         let (nx, ny) = (8, 6);
-        let mut u: Vec<f32> = (0..nx * ny)
-            .map(|c| ((c % nx) + 2 * (c / nx)) as f32)
-            .collect();
+        let mut u: Vec<f32> = (0..nx * ny).map(|c| ((c % nx) + 2 * (c / nx)) as f32).collect();
         let mut v = vec![1.0f32; nx * ny];
         let mut mask = vec![false; nx * ny];
         mask[0] = true;

@@ -36,10 +36,7 @@ pub struct MedianTest {
 
 impl Default for MedianTest {
     fn default() -> Self {
-        MedianTest {
-            threshold: 2.0,
-            epsilon: None,
-        }
+        MedianTest { threshold: 2.0, epsilon: None }
     }
 }
 
@@ -94,14 +91,7 @@ impl MedianTest {
     /// The larger of the two components' normalized residuals at every cell of one snapshot
     /// (`NaN` where the test cannot judge: masked, missing, or fewer than 3 valid neighbours).
     pub fn residuals(&self, snap: &SnapshotView, eps: f64) -> Vec<f64> {
-        let SnapshotView {
-            u,
-            v,
-            nx,
-            ny,
-            mask,
-            missing,
-        } = *snap;
+        let SnapshotView { u, v, nx, ny, mask, missing } = *snap;
         let usable = |c: usize| !mask[c] && !missing[c];
         let mut out = vec![f64::NAN; nx * ny];
         for j in 0..ny {
@@ -140,9 +130,7 @@ impl MedianTest {
 /// Normalized residuals of snapshot `k` of a series (for display and diagnostics).
 pub fn normalized_residuals(series: &Series, k: usize, test: &MedianTest) -> Vec<f64> {
     let (nx, ny) = (series.nx(), series.ny());
-    let missing = series
-        .gaps_at(k)
-        .map_or_else(|| vec![false; nx * ny], <[bool]>::to_vec);
+    let missing = series.gaps_at(k).map_or_else(|| vec![false; nx * ny], <[bool]>::to_vec);
     let eps = test.resolve_epsilon(series);
     let view = SnapshotView {
         u: series.u_at(k),
@@ -175,34 +163,13 @@ mod tests {
         let mask = vec![false; 25];
         let missing = vec![false; 25];
         let t = MedianTest::default();
+        let flagged = |u: &[f32]| {
+            let view = SnapshotView { u, v: &v, nx, ny, mask: &mask, missing: &missing };
+            t.detect(&view, 0.1)
+        };
         u[12] = 1.3;
-        assert_eq!(
-            t.detect(
-                &SnapshotView {
-                    u: &u,
-                    v: &v,
-                    nx,
-                    ny,
-                    mask: &mask,
-                    missing: &missing
-                },
-                0.1
-            ),
-            vec![12]
-        );
+        assert_eq!(flagged(&u), vec![12]);
         u[12] = 1.1 - 1e-6;
-        assert!(t
-            .detect(
-                &SnapshotView {
-                    u: &u,
-                    v: &v,
-                    nx,
-                    ny,
-                    mask: &mask,
-                    missing: &missing
-                },
-                0.1
-            )
-            .is_empty());
+        assert!(flagged(&u).is_empty());
     }
 }

@@ -28,10 +28,7 @@ pub struct CleanOptions {
 
 impl Default for CleanOptions {
     fn default() -> Self {
-        CleanOptions {
-            test: MedianTest::default(),
-            passes: 3,
-        }
+        CleanOptions { test: MedianTest::default(), passes: 3 }
     }
 }
 
@@ -151,17 +148,9 @@ pub fn clean(series: &Series, opts: &CleanOptions) -> (Series, CleanReport) {
         // Source gaps are filled before detection so that the test sees full neighbourhoods.
         fill_from_neighbours(uk, vk, nx, ny, mask, &mut missing);
         for pass in 1..=opts.passes {
-            let mut flagged = opts.test.detect(
-                &SnapshotView {
-                    u: uk,
-                    v: vk,
-                    nx,
-                    ny,
-                    mask,
-                    missing: &missing,
-                },
-                eps,
-            );
+            let mut flagged = opts
+                .test
+                .detect(&SnapshotView { u: uk, v: vk, nx, ny, mask, missing: &missing }, eps);
             flagged.retain(|&c| !replaced[c]);
             if flagged.is_empty() {
                 break;
@@ -197,25 +186,9 @@ pub fn clean(series: &Series, opts: &CleanOptions) -> (Series, CleanReport) {
 /// Outliers per snapshot found by one pass of the test on the data as they are (gaps are
 /// not filled first and do not count as neighbours). For summaries: nothing is changed.
 pub fn count_outliers(series: &Series, test: &MedianTest) -> Vec<usize> {
-    let (nx, ny) = (series.nx(), series.ny());
-    let eps = test.resolve_epsilon(series);
     (0..series.nt())
         .map(|k| {
-            let missing = series
-                .gaps_at(k)
-                .map_or_else(|| vec![false; nx * ny], <[bool]>::to_vec);
-            test.detect(
-                &SnapshotView {
-                    u: series.u_at(k),
-                    v: series.v_at(k),
-                    nx,
-                    ny,
-                    mask: series.mask(),
-                    missing: &missing,
-                },
-                eps,
-            )
-            .len()
+            normalized_residuals(series, k, test).iter().filter(|&&r| r > test.threshold).count()
         })
         .collect()
 }

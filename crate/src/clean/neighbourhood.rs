@@ -1,16 +1,8 @@
 //! The 3×3 neighbourhood of a vector, completed where a neighbour is missing.
 
 /// Offsets of the eight neighbours; the first four are the edge neighbours.
-const OFFSETS: [(isize, isize); 8] = [
-    (-1, 0),
-    (1, 0),
-    (0, -1),
-    (0, 1),
-    (-1, -1),
-    (1, -1),
-    (-1, 1),
-    (1, 1),
-];
+const OFFSETS: [(isize, isize); 8] =
+    [(-1, 0), (1, 0), (0, -1), (0, 1), (-1, -1), (1, -1), (-1, 1), (1, 1)];
 
 /// Values of the neighbours of cell (i, j), for both components.
 pub(crate) struct Neighbourhood {
@@ -42,12 +34,7 @@ pub(crate) fn gather(
     i: usize,
     j: usize,
 ) -> Neighbourhood {
-    let mut n = Neighbourhood {
-        u: [0.0; 8],
-        v: [0.0; 8],
-        len: 0,
-        all_real: true,
-    };
+    let mut n = Neighbourhood { u: [0.0; 8], v: [0.0; 8], len: 0, all_real: true };
     let cell = |di: isize, dj: isize| -> Option<usize> {
         let (ii, jj) = (i as isize + di, j as isize + dj);
         (ii >= 0 && jj >= 0 && (ii as usize) < nx && (jj as usize) < ny)
@@ -91,9 +78,7 @@ mod tests {
     #[test]
     fn edge_neighbourhood_is_unbiased_on_a_linear_field() {
         let (nx, ny) = (6, 5);
-        let u: Vec<f32> = (0..nx * ny)
-            .map(|c| (3 * (c % nx) + (c / nx)) as f32)
-            .collect();
+        let u: Vec<f32> = (0..nx * ny).map(|c| (3 * (c % nx) + (c / nx)) as f32).collect();
         let v = u.clone();
         let all = |_: usize| true;
         for (i, j) in [(0, 2), (3, 0), (2, 4), (5, 2)] {

@@ -4,11 +4,7 @@ use super::Series;
 
 /// Speed |u| of snapshot `k`, `(ny, nx)`; `0` at masked cells and gaps.
 pub fn speed(s: &Series, k: usize) -> Vec<f32> {
-    s.u_at(k)
-        .iter()
-        .zip(s.v_at(k))
-        .map(|(u, v)| u.hypot(*v))
-        .collect()
+    s.u_at(k).iter().zip(s.v_at(k)).map(|(u, v)| u.hypot(*v)).collect()
 }
 
 /// Derivative of `f` along one axis at a node, from the valid neighbours: central where both

@@ -7,11 +7,7 @@ pub enum FieldError {
     #[error("the {axis} axis has {len} point(s); at least 2 are needed to define a grid")]
     AxisTooShort { axis: &'static str, len: usize },
     #[error("the {axis} coordinate at index {index} is not a finite number ({value})")]
-    NonFiniteCoordinate {
-        axis: &'static str,
-        index: usize,
-        value: f64,
-    },
+    NonFiniteCoordinate { axis: &'static str, index: usize, value: f64 },
     #[error(
         "the {axis} coordinates are not uniformly spaced: point {index} is at {value}, \
          expected {expected} for a spacing of {spacing} (tolerance {tolerance_percent}% of the spacing)"
@@ -33,29 +29,14 @@ pub enum FieldError {
     #[error(
         "snapshot times must strictly increase: time {index} is {value}, the one before is {previous}"
     )]
-    TimesNotIncreasing {
-        index: usize,
-        value: f64,
-        previous: f64,
-    },
+    TimesNotIncreasing { index: usize, value: f64, previous: f64 },
     #[error("{name} has {got} values but {expected} were expected for shape {shape}")]
-    ShapeMismatch {
-        name: &'static str,
-        got: usize,
-        expected: usize,
-        shape: String,
-    },
+    ShapeMismatch { name: &'static str, got: usize, expected: usize, shape: String },
     #[error(
         "{component} is not finite ({value}) at snapshot {snapshot}, x index {i}, y index {j}, \
          and that cell is neither masked nor marked as a gap"
     )]
-    NonFiniteValue {
-        component: &'static str,
-        value: f32,
-        snapshot: usize,
-        i: usize,
-        j: usize,
-    },
+    NonFiniteValue { component: &'static str, value: f32, snapshot: usize, i: usize, j: usize },
     #[error("every cell is masked: there is no valid velocity data")]
     AllMasked,
     #[error("{0}")]

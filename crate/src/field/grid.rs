@@ -28,11 +28,7 @@ impl Axis {
             return Err(FieldError::AxisTooShort { axis: name, len: n });
         }
         if let Some((index, &value)) = coords.iter().enumerate().find(|(_, c)| !c.is_finite()) {
-            return Err(FieldError::NonFiniteCoordinate {
-                axis: name,
-                index,
-                value,
-            });
+            return Err(FieldError::NonFiniteCoordinate { axis: name, index, value });
         }
         if let Some(index) = (1..n).find(|&i| coords[i] == coords[i - 1]) {
             return Err(FieldError::DegenerateAxis { axis: name, index });
@@ -54,17 +50,9 @@ impl Axis {
             }
         }
         let axis = if descending {
-            Axis {
-                start: coords[n - 1],
-                step: -step,
-                n,
-            }
+            Axis { start: coords[n - 1], step: -step, n }
         } else {
-            Axis {
-                start: coords[0],
-                step,
-                n,
-            }
+            Axis { start: coords[0], step, n }
         };
         Ok((axis, descending))
     }
@@ -118,15 +106,8 @@ impl Grid {
     }
     /// Returns the grid scaled by `factor` (unit conversion of the coordinates).
     pub fn scaled(&self, factor: f64) -> Grid {
-        let s = |a: Axis| Axis {
-            start: a.start * factor,
-            step: a.step * factor,
-            n: a.n,
-        };
-        Grid {
-            x: s(self.x),
-            y: s(self.y),
-        }
+        let s = |a: Axis| Axis { start: a.start * factor, step: a.step * factor, n: a.n };
+        Grid { x: s(self.x), y: s(self.y) }
     }
 }
 
@@ -147,9 +128,7 @@ mod tests {
     #[test]
     fn rounding_within_tolerance_is_accepted() {
         // 0.6 mm pitch written with three decimals.
-        let c: Vec<f64> = (0..50)
-            .map(|i| ((i as f64 * 0.6) * 1000.0).round() / 1000.0)
-            .collect();
+        let c: Vec<f64> = (0..50).map(|i| ((i as f64 * 0.6) * 1000.0).round() / 1000.0).collect();
         assert!(Axis::from_coords("x", &c).is_ok());
     }
 
@@ -157,18 +136,9 @@ mod tests {
     fn stretched_and_repeated_axes_are_rejected() {
         let stretched: Vec<f64> = (0..30).map(|i| 1.05f64.powi(i)).collect();
         let e = Axis::from_coords("x", &stretched).unwrap_err();
-        assert!(
-            matches!(e, FieldError::NonUniformAxis { axis: "x", .. }),
-            "{e}"
-        );
+        assert!(matches!(e, FieldError::NonUniformAxis { axis: "x", .. }), "{e}");
         let e = Axis::from_coords("y", &[0.0, 1.0, 1.0, 2.0]).unwrap_err();
-        assert_eq!(
-            e,
-            FieldError::DegenerateAxis {
-                axis: "y",
-                index: 2
-            }
-        );
+        assert_eq!(e, FieldError::DegenerateAxis { axis: "y", index: 2 });
         assert!(Axis::from_coords("x", &[1.0]).is_err());
         assert!(Axis::from_coords("x", &[0.0, f64::NAN]).is_err());
     }

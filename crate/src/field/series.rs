@@ -48,12 +48,7 @@ fn check_len(
     shape: String,
 ) -> Result<(), FieldError> {
     if got != expected {
-        return Err(FieldError::ShapeMismatch {
-            name,
-            got,
-            expected,
-            shape,
-        });
+        return Err(FieldError::ShapeMismatch { name, got, expected, shape });
     }
     Ok(())
 }
@@ -168,11 +163,7 @@ impl Series {
         }
         let grid = Grid { x: ax, y: ay }.scaled(lf);
         let times = p.t.iter().map(|t| t * tf).collect();
-        let gaps = if gaps.iter().any(|&g| g) {
-            Some(gaps)
-        } else {
-            None
-        };
+        let gaps = if gaps.iter().any(|&g| g) { Some(gaps) } else { None };
         Ok(Series {
             grid,
             times,
@@ -202,12 +193,7 @@ impl Series {
         if let Some(g) = &gaps {
             assert_eq!(g.len(), n, "with_velocity: gaps length");
         }
-        Series {
-            u,
-            v,
-            gaps,
-            ..self.clone()
-        }
+        Series { u, v, gaps, ..self.clone() }
     }
 
     pub fn grid(&self) -> &Grid {
@@ -259,9 +245,7 @@ impl Series {
     }
     /// Number of missing vectors over all snapshots (masked cells not counted).
     pub fn gap_count(&self) -> usize {
-        self.gaps
-            .as_ref()
-            .map_or(0, |g| g.iter().filter(|&&x| x).count())
+        self.gaps.as_ref().map_or(0, |g| g.iter().filter(|&&x| x).count())
     }
     /// Number of masked cells in one snapshot.
     pub fn masked_count(&self) -> usize {
@@ -329,10 +313,7 @@ mod tests {
     #[test]
     fn units_convert_to_si() {
         let mut p = parts(2, 2, 2);
-        p.units = Units {
-            length: LengthUnit::Mm,
-            time: TimeUnit::Ms,
-        };
+        p.units = Units { length: LengthUnit::Mm, time: TimeUnit::Ms };
         let s = Series::from_parts(p).unwrap();
         assert!((s.grid().x.step - 1e-3).abs() < 1e-15);
         assert!((s.times()[1] - 1e-4).abs() < 1e-15);
@@ -345,18 +326,7 @@ mod tests {
         let mut p = parts(3, 3, 2);
         p.u[4] = f32::NAN;
         let e = Series::from_parts(p.clone()).unwrap_err();
-        assert!(
-            matches!(
-                e,
-                FieldError::NonFiniteValue {
-                    snapshot: 0,
-                    i: 1,
-                    j: 1,
-                    ..
-                }
-            ),
-            "{e}"
-        );
+        assert!(matches!(e, FieldError::NonFiniteValue { snapshot: 0, i: 1, j: 1, .. }), "{e}");
         p.nan_is_gap = true;
         let s = Series::from_parts(p.clone()).unwrap();
         assert_eq!(s.gap_count(), 1);

@@ -42,15 +42,9 @@ impl Summary {
     pub fn of(s: &Series) -> Summary {
         let t = s.times();
         let nt = t.len();
-        let dt_mean = if nt > 1 {
-            (t[nt - 1] - t[0]) / (nt - 1) as f64
-        } else {
-            0.0
-        };
+        let dt_mean = if nt > 1 { (t[nt - 1] - t[0]) / (nt - 1) as f64 } else { 0.0 };
         let dt_nonuniformity = if nt > 1 {
-            t.windows(2)
-                .map(|w| ((w[1] - w[0]) / dt_mean - 1.0).abs())
-                .fold(0.0, f64::max)
+            t.windows(2).map(|w| ((w[1] - w[0]) / dt_mean - 1.0).abs()).fold(0.0, f64::max)
         } else {
             0.0
         };

@@ -81,9 +81,9 @@ impl FromStr for LengthUnit {
             "mm" => Ok(LengthUnit::Mm),
             "um" | "µm" | "μm" | "micron" | "microns" => Ok(LengthUnit::Um),
             "1" | "-" | "" | "unitless" | "dimensionless" | "none" => Ok(LengthUnit::Unitless),
-            other => Err(format!(
-                "unknown length unit '{other}' (expected m, cm, mm, um or unitless)"
-            )),
+            other => {
+                Err(format!("unknown length unit '{other}' (expected m, cm, mm, um or unitless)"))
+            }
         }
     }
 }
@@ -97,9 +97,7 @@ impl FromStr for TimeUnit {
             "ms" => Ok(TimeUnit::Ms),
             "us" | "µs" | "μs" => Ok(TimeUnit::Us),
             "1" | "-" | "" | "unitless" | "dimensionless" | "none" => Ok(TimeUnit::Unitless),
-            other => Err(format!(
-                "unknown time unit '{other}' (expected s, ms, us or unitless)"
-            )),
+            other => Err(format!("unknown time unit '{other}' (expected s, ms, us or unitless)")),
         }
     }
 }
@@ -132,11 +130,7 @@ impl Units {
             } else {
                 LengthUnit::M
             },
-            time: if self.time == TimeUnit::Unitless {
-                TimeUnit::Unitless
-            } else {
-                TimeUnit::S
-            },
+            time: if self.time == TimeUnit::Unitless { TimeUnit::Unitless } else { TimeUnit::S },
         }
     }
     /// Label of a velocity in these units, e.g. `m/s`.
@@ -166,10 +160,7 @@ mod tests {
         assert_eq!("MM".parse::<LengthUnit>().unwrap(), LengthUnit::Mm);
         assert_eq!("µm".parse::<LengthUnit>().unwrap(), LengthUnit::Um);
         assert_eq!("ms".parse::<TimeUnit>().unwrap(), TimeUnit::Ms);
-        assert!("furlong"
-            .parse::<LengthUnit>()
-            .unwrap_err()
-            .contains("furlong"));
+        assert!("furlong".parse::<LengthUnit>().unwrap_err().contains("furlong"));
     }
 
     #[test]
@@ -177,10 +168,7 @@ mod tests {
         let si = Units::default();
         assert_eq!(si.velocity_label(), "m/s");
         assert_eq!(si.rate_label(), "1/s");
-        let mm = Units {
-            length: LengthUnit::Mm,
-            time: TimeUnit::Ms,
-        };
+        let mm = Units { length: LengthUnit::Mm, time: TimeUnit::Ms };
         assert_eq!(mm.computational(), si);
     }
 }

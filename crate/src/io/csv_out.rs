@@ -11,12 +11,27 @@
 use crate::field::Series;
 use std::fmt::Write as _;
 
-/// The table of snapshot `k`.
+/// The table of snapshot `k`, with the time column.
 ///
 /// # Panics
 /// If `k` is not a snapshot index of the series: a programming error of the caller.
 #[track_caller]
 pub fn write_csv_snapshot(series: &Series, k: usize) -> String {
+    table(series, k, true)
+}
+
+/// The table of snapshot `k` without the time column, as exports that do not record time
+/// look (the reader then needs Δt from the user).
+///
+/// # Panics
+/// As [`write_csv_snapshot`].
+#[track_caller]
+pub fn write_csv_snapshot_untimed(series: &Series, k: usize) -> String {
+    table(series, k, false)
+}
+
+#[track_caller]
+fn table(series: &Series, k: usize, with_time: bool) -> String {
     assert!(
         k < series.nt(),
         "write_csv_snapshot: snapshot {k} requested, the series has {}",
@@ -33,7 +48,9 @@ pub fn write_csv_snapshot(series: &Series, k: usize) -> String {
     let gaps = series.gaps_at(k);
     let time = series.times()[k];
     let mut out = String::with_capacity(grid.len() * 48 + 64);
-    let _ = writeln!(out, "x [{l}],y [{l}],u [{vel}],v [{vel}],valid,t [{t}]");
+    let time_col = if with_time { format!(",{time}") } else { String::new() };
+    let _ = write!(out, "x [{l}],y [{l}],u [{vel}],v [{vel}],valid");
+    let _ = writeln!(out, "{}", if with_time { format!(",t [{t}]") } else { String::new() });
     for j in 0..grid.ny() {
         let y = grid.y.coord(j);
         for i in 0..grid.nx() {
@@ -41,9 +58,9 @@ pub fn write_csv_snapshot(series: &Series, k: usize) -> String {
             let x = grid.x.coord(i);
             let valid = !mask[c] && !gaps.is_some_and(|g| g[c]);
             if valid {
-                let _ = writeln!(out, "{x},{y},{},{},1,{time}", u[c], v[c]);
+                let _ = writeln!(out, "{x},{y},{},{},1{time_col}", u[c], v[c]);
             } else {
-                let _ = writeln!(out, "{x},{y},NaN,NaN,0,{time}");
+                let _ = writeln!(out, "{x},{y},NaN,NaN,0{time_col}");
             }
         }
     }

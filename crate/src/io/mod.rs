@@ -30,7 +30,7 @@ mod paths;
 mod text;
 mod vti;
 
-pub use csv_out::write_csv_snapshot;
+pub use csv_out::{write_csv_snapshot, write_csv_snapshot_untimed};
 pub use error::IoError;
 pub use natural::natural_cmp;
 pub use npy::{NpyArray, NpyData};

@@ -106,7 +106,11 @@ pub fn write_arrays_npz(arrays: &[NpyArray]) -> Vec<u8> {
     let mut zip = ZipWriter::new(Cursor::new(Vec::new()));
     for a in arrays {
         let bytes = write_npy(a);
+        // A fixed entry time (the zip epoch, 1980-01-01): the same arrays always give the
+        // same bytes, whichever features of the zip crate are enabled (its `time` feature
+        // would stamp the current time). The demo data's bit-for-bit check relies on this.
         let options = SimpleFileOptions::default()
+            .last_modified_time(zip::DateTime::default())
             .compression_method(CompressionMethod::Deflated)
             .compression_level(Some(DEFLATE_LEVEL))
             .large_file(bytes.len() >= ZIP32_LIMIT);

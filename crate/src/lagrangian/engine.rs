@@ -4,7 +4,7 @@
 use super::dormand_prince::{integrate_dopri, DopriOptions};
 use super::error::LagrangianError;
 use super::outcome::{Outcome, Stop};
-use super::rk4::integrate_rk4;
+use super::rk4::{integrate_rk4, integrate_rk4_lanes};
 use super::seeding::TracerGrid;
 use super::system::{System, Tracer};
 use super::velocity::{Extended, VelocityField};
@@ -152,11 +152,7 @@ pub struct FlowMapRows {
 /// Checks `j0..j1` against the grid.
 pub(crate) fn check_rows(grid: &TracerGrid, j0: usize, j1: usize) -> Result<(), LagrangianError> {
     if j0 >= j1 || j1 > grid.ny() {
-        return Err(LagrangianError::BadRowRange {
-            j0,
-            j1,
-            ny: grid.ny(),
-        });
+        return Err(LagrangianError::BadRowRange { j0, j1, ny: grid.ny() });
     }
     Ok(())
 }
@@ -189,34 +185,45 @@ fn flow_rows_with<F: VelocityField, G: VelocityField>(
     j0: usize,
     j1: usize,
 ) -> FlowMapRows {
-    let n = (j1 - j0) * grid.nx();
+    let nx = grid.nx();
+    let n = (j1 - j0) * nx;
+    // Every node is written below: masked seeds here, the others when they finish.
     let mut r = FlowMapRows {
         grid: *grid,
         j0,
         j1,
-        x: Vec::with_capacity(n),
-        y: Vec::with_capacity(n),
-        tau: Vec::with_capacity(n),
-        status: Vec::with_capacity(n),
+        x: vec![0.0; n],
+        y: vec![0.0; n],
+        tau: vec![0.0; n],
+        status: vec![NodeStatus::Masked; n],
         rhs_calls: 0,
     };
+    let node = |c: usize| grid.node(c % nx, j0 + c / nx);
+    for c in 0..n {
+        let p = node(c);
+        r.x[c] = p[0];
+        r.y[c] = p[1];
+    }
+    let seeds = (0..n).filter_map(|c| {
+        let p = node(c);
+        seed_field.velocity(p, o.t0).is_some().then_some((c, p))
+    });
     let sys = Tracer(field);
-    for j in j0..j1 {
-        for i in 0..grid.nx() {
-            let p = grid.node(i, j);
-            if seed_field.velocity(p, o.t0).is_none() {
-                r.x.push(p[0]);
-                r.y.push(p[1]);
-                r.tau.push(0.0);
-                r.status.push(NodeStatus::Masked);
-                continue;
+    let mut store = |c: usize, out: Outcome<2>| {
+        r.x[c] = out.y[0];
+        r.y[c] = out.y[1];
+        r.tau[c] = (out.t - o.t0).abs();
+        r.status[c] = out.stop.into();
+        r.rhs_calls += out.rhs_calls as u64;
+    };
+    match o.integrator {
+        Integrator::Rk4 { max_step } => {
+            integrate_rk4_lanes(&sys, seeds, o.t0, o.horizon, max_step, store)
+        }
+        Integrator::DormandPrince(_) => {
+            for (c, p) in seeds {
+                store(c, integrate(&sys, p, o));
             }
-            let out = integrate(&sys, p, o);
-            r.x.push(out.y[0]);
-            r.y.push(out.y[1]);
-            r.tau.push((out.t - o.t0).abs());
-            r.status.push(out.stop.into());
-            r.rhs_calls += out.rhs_calls as u64;
         }
     }
     r

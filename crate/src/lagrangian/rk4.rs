@@ -14,6 +14,11 @@ use super::outcome::{Outcome, Stop};
 use super::system::System;
 use super::tableau::{combine, stages, RK4};
 
+/// Trajectories [`integrate_rk4_lanes`] advances side by side. A lone trajectory is a chain
+/// of dependent velocity samples; interleaving independent ones lets the processor overlap
+/// their work.
+pub const LANES: usize = 4;
+
 /// Bisections used to locate an exit inside the step where it happened.
 pub const EXIT_BISECTIONS: u32 = 12;
 
@@ -56,35 +61,198 @@ pub fn integrate_rk4<const N: usize, Sys: System<N>>(
         calls = calls.saturating_add(4);
         if let Some(y1) = rk4_step(sys, t, h, &y) {
             y = y1;
-            t = if s + 1 == n {
-                t0 + horizon
-            } else {
-                t0 + (s + 1) as f64 * h
-            };
+            t = if s + 1 == n { t0 + horizon } else { t0 + (s + 1) as f64 * h };
             continue;
         }
-        let mut hh = h;
-        for _ in 0..EXIT_BISECTIONS {
-            hh *= 0.5;
-            calls = calls.saturating_add(4);
-            if let Some(y1) = rk4_step(sys, t, hh, &y) {
-                y = y1;
-                t += hh;
+        return locate_exit(sys, t, h, y, calls);
+    }
+    Outcome { y, t, stop: Stop::Complete, rhs_calls: calls, rejected: 0 }
+}
+
+/// After a failed step of size `h` from `(t, y)`: bisects the step [`EXIT_BISECTIONS`]
+/// times, advancing whenever the half step succeeds, and reports the exit.
+#[cold]
+fn locate_exit<const N: usize, Sys: System<N>>(
+    sys: &Sys,
+    mut t: f64,
+    h: f64,
+    mut y: [f64; N],
+    mut calls: u32,
+) -> Outcome<N> {
+    let mut hh = h;
+    for _ in 0..EXIT_BISECTIONS {
+        hh *= 0.5;
+        calls = calls.saturating_add(4);
+        if let Some(y1) = rk4_step(sys, t, hh, &y) {
+            y = y1;
+            t += hh;
+        }
+    }
+    Outcome { y, t, stop: Stop::Exited, rhs_calls: calls, rejected: 0 }
+}
+
+/// One trajectory in flight in [`integrate_rk4_lanes`].
+#[derive(Clone, Copy)]
+struct Lane<const N: usize> {
+    id: usize,
+    y: [f64; N],
+    /// Steps completed.
+    s: u64,
+    calls: u32,
+}
+
+/// Integrates many independent trajectories of `sys` exactly as [`integrate_rk4`] would,
+/// [`LANES`] at a time in lockstep, stage by stage, so that the dependency chains of
+/// different trajectories overlap on the processor. Each trajectory does the same
+/// floating-point operations in the same order as alone, so every result is bit-identical
+/// to [`integrate_rk4`]'s; only the order in which trajectories finish differs.
+///
+/// `starts` yields `(id, y0)`; `finish(id, outcome)` is called once per trajectory, in
+/// completion order. A lane whose trajectory ends takes the next start at once.
+pub fn integrate_rk4_lanes<const N: usize, Sys: System<N>>(
+    sys: &Sys,
+    starts: impl IntoIterator<Item = (usize, [f64; N])>,
+    t0: f64,
+    horizon: f64,
+    max_step: f64,
+    mut finish: impl FnMut(usize, Outcome<N>),
+) {
+    let n = step_count(horizon, max_step);
+    let h = horizon / n as f64;
+    let mut starts = starts.into_iter();
+    let mut next = || starts.next().map(|(id, y)| Lane { id, y, s: 0, calls: 0 });
+    let mut lanes: [Option<Lane<N>>; LANES] = std::array::from_fn(|_| next());
+    // Per lane: stage derivatives of the current step, and whether every stage had data.
+    let mut k = [[[0.0; N]; 4]; LANES];
+    loop {
+        let mut ok = [false; LANES];
+        let mut time = [0.0; LANES];
+        for l in 0..LANES {
+            if let Some(lane) = &lanes[l] {
+                ok[l] = true;
+                // The time integrate_rk4 holds after `s` steps (t₀ itself before the first).
+                time[l] = if lane.s == 0 { t0 } else { t0 + lane.s as f64 * h };
             }
         }
-        return Outcome {
-            y,
-            t,
-            stop: Stop::Exited,
-            rhs_calls: calls,
-            rejected: 0,
-        };
+        if !ok.iter().any(|&b| b) {
+            return;
+        }
+        // Stage by stage across the lanes.
+        lane_stage::<0, N, Sys>(sys, &lanes, &mut ok, &time, h, &mut k);
+        lane_stage::<1, N, Sys>(sys, &lanes, &mut ok, &time, h, &mut k);
+        lane_stage::<2, N, Sys>(sys, &lanes, &mut ok, &time, h, &mut k);
+        lane_stage::<3, N, Sys>(sys, &lanes, &mut ok, &time, h, &mut k);
+        for l in 0..LANES {
+            let Some(lane) = &mut lanes[l] else { continue };
+            lane.calls = lane.calls.saturating_add(4);
+            let done = if ok[l] {
+                lane.y = combine(&RK4.b, h, &lane.y, &k[l]);
+                lane.s += 1;
+                (lane.s == n).then(|| Outcome {
+                    y: lane.y,
+                    t: t0 + horizon,
+                    stop: Stop::Complete,
+                    rhs_calls: lane.calls,
+                    rejected: 0,
+                })
+            } else {
+                Some(locate_exit(sys, time[l], h, lane.y, lane.calls))
+            };
+            if let Some(out) = done {
+                finish(lane.id, out);
+                lanes[l] = next();
+            }
+        }
     }
-    Outcome {
-        y,
-        t,
-        stop: Stop::Complete,
-        rhs_calls: calls,
-        rejected: 0,
+}
+
+/// RK4 stage `I` of every lane still in its step (`ok`); a lane whose stage point has no
+/// velocity drops out of the step. `I` is a constant so the tableau folds into the code.
+#[inline(always)]
+fn lane_stage<const I: usize, const N: usize, Sys: System<N>>(
+    sys: &Sys,
+    lanes: &[Option<Lane<N>>; LANES],
+    ok: &mut [bool; LANES],
+    time: &[f64; LANES],
+    h: f64,
+    k: &mut [[[f64; N]; 4]; LANES],
+) {
+    for l in 0..LANES {
+        let Some(lane) = &lanes[l] else { continue };
+        if !ok[l] {
+            continue;
+        }
+        let yi = stage_input(I, h, &lane.y, &k[l]);
+        match sys.rhs(time[l] + RK4.c[I] * h, &yi) {
+            Some(d) => k[l][I] = d,
+            None => ok[l] = false,
+        }
+    }
+}
+
+/// The point where RK4 stage `i` samples the field: y + h Σⱼ aᵢⱼ kⱼ, with the operations of
+/// [`stages`] in the same order (so results match [`rk4_step`] bit for bit).
+#[allow(clippy::needless_range_loop)]
+#[inline(always)]
+fn stage_input<const N: usize>(i: usize, h: f64, y: &[f64; N], k: &[[f64; N]; 4]) -> [f64; N] {
+    let mut yi = *y;
+    for j in 0..i {
+        let a = RK4.a[i][j];
+        if a != 0.0 {
+            for n in 0..N {
+                yi[n] += h * a * k[j][n];
+            }
+        }
+    }
+    yi
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::lagrangian::analytic::DoubleGyre;
+    use crate::lagrangian::system::{Tangent, Tracer};
+    use crate::lagrangian::velocity::{Rect, Windowed};
+
+    /// The lanes integrator must reproduce `integrate_rk4` bit for bit (its documented
+    /// contract), for completed trajectories and for ones that leave the window, whatever
+    /// the order in which lanes finish and refill; also for a state with a tangent matrix.
+    #[test]
+    fn lanes_match_single_trajectories_bit_for_bit() {
+        // The periodic gyre cut to a window smaller than its domain: many tracers exit.
+        let field = Windowed {
+            inner: DoubleGyre::periodic(),
+            rect: Rect { x0: 0.2, x1: 1.7, y0: 0.1, y1: 0.9 },
+        };
+        let starts: Vec<(usize, [f64; 2])> =
+            (0..37).map(|c| (c, [0.21 + 0.04 * c as f64, 0.15 + 0.02 * (c % 11) as f64])).collect();
+        let (t0, horizon, step) = (0.5, 4.0, 0.05);
+        let mut got = vec![None; starts.len()];
+        integrate_rk4_lanes(&Tracer(&field), starts.clone(), t0, horizon, step, |c, out| {
+            assert!(got[c].is_none(), "trajectory {c} finished twice");
+            got[c] = Some(out);
+        });
+        let mut exited = 0;
+        for &(c, p) in &starts {
+            let want = integrate_rk4(&Tracer(&field), p, t0, horizon, step);
+            assert_eq!(got[c], Some(want), "trajectory {c}");
+            exited += (want.stop == Stop::Exited) as usize;
+        }
+        assert!(exited >= 5 && exited + 5 <= starts.len(), "{exited} exits: not a mixed test");
+
+        let tangent: Vec<(usize, [f64; 6])> =
+            starts.iter().map(|&(c, p)| (c, [p[0], p[1], 1.0, 0.0, 0.0, 1.0])).collect();
+        let mut got = vec![None; tangent.len()];
+        integrate_rk4_lanes(&Tangent(&field), tangent.clone(), t0, -horizon, step, |c, out| {
+            got[c] = Some(out)
+        });
+        for &(c, y) in &tangent {
+            let want = integrate_rk4(&Tangent(&field), y, t0, -horizon, step);
+            assert_eq!(got[c], Some(want), "tangent trajectory {c}");
+        }
+        // No starts: nothing to do, no call.
+        integrate_rk4_lanes(&Tracer(&field), Vec::new(), t0, horizon, step, |_, _| {
+            panic!("called without trajectories")
+        });
     }
 }

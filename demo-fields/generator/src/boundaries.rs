@@ -1,8 +1,8 @@
 //! Boundary conditions, expressed as the gather table of the pull step and the node kinds:
 //!
 //! * **Inlet** (column 0): nodes fixed at the equilibrium of the uniform inflow (ρ = 1,
-//!   u = (U, 0)), a velocity inlet (common practice; simpler than a Zou–He inlet and
-//!   adequate 5 D upstream of the fin).
+//!   u = (U, 0)): the simplest velocity inlet (common practice), adequate 5 D upstream of
+//!   the fin.
 //! * **Outlet** (column nx − 1): zero gradient — a population that would enter from beyond
 //!   the outlet takes the value the same direction has just received one column upstream.
 //! * **Channel walls**: free-slip (specular reflection), located half a cell outside the
@@ -88,14 +88,10 @@ mod tests {
     fn uniform_flow_is_preserved_by_walls_inlet_and_outlet() {
         let (nx, ny, u0) = (40, 12, 0.08);
         let solid = vec![false; nx * ny];
-        let mut lat = Lattice::new(
-            nx,
-            ny,
-            0.6,
-            node_kinds(nx, ny, &solid),
-            links(nx, ny, &solid),
-            |_, _| (u0, 0.0),
-        );
+        let mut lat =
+            Lattice::new(nx, ny, 0.6, node_kinds(nx, ny, &solid), links(nx, ny, &solid), |_, _| {
+                (u0, 0.0)
+            });
         for _ in 0..200 {
             lat.step();
         }
@@ -103,10 +99,7 @@ mod tests {
             for i in 0..nx {
                 let (rho, ux, uy) = lat.moments(i, j);
                 assert!((rho - 1.0).abs() < 1e-12, "rho at ({i},{j}) = {rho}");
-                assert!(
-                    (ux - u0).abs() < 1e-12 && uy.abs() < 1e-12,
-                    "u at ({i},{j})"
-                );
+                assert!((ux - u0).abs() < 1e-12 && uy.abs() < 1e-12, "u at ({i},{j})");
             }
         }
     }

@@ -88,11 +88,7 @@ fn find_runs(nx: usize, n: usize, kinds: &[NodeKind], links: &[u32]) -> Vec<Run>
         let p = plain(node);
         match runs.last_mut() {
             Some(r) if r.plain == p && r.start + r.len == node => r.len += 1,
-            _ => runs.push(Run {
-                start: node,
-                len: 1,
-                plain: p,
-            }),
+            _ => runs.push(Run { start: node, len: 1, plain: p }),
         }
     }
     runs
@@ -138,10 +134,7 @@ impl Lattice {
         let n = nx * ny;
         assert_eq!(kinds.len(), n, "one kind per node");
         assert_eq!(links.len(), 9 * n, "nine links per node");
-        assert!(
-            9 * n <= u32::MAX as usize,
-            "lattice too large for 32-bit links"
-        );
+        assert!(9 * n <= u32::MAX as usize, "lattice too large for 32-bit links");
         let mut f = vec![0.0; 9 * n];
         for j in 0..ny {
             for i in 0..nx {
@@ -157,17 +150,7 @@ impl Lattice {
             }
         }
         let runs = find_runs(nx, n, &kinds, &links);
-        Lattice {
-            nx,
-            ny,
-            omega: 1.0 / tau,
-            kinds,
-            links,
-            runs,
-            next: f.clone(),
-            f,
-            steps: 0,
-        }
+        Lattice { nx, ny, omega: 1.0 / tau, kinds, links, runs, next: f.clone(), f, steps: 0 }
     }
 
     /// Advances one time step: pull-stream, then BGK collision. `next` keeps the fixed
@@ -314,10 +297,7 @@ mod tests {
         let a1 = amplitude(&lat);
         let nu_measured = (a0 / a1).ln() / (k * k * steps as f64);
         let nu = (tau - 0.5) / 3.0;
-        assert!(
-            (nu_measured / nu - 1.0).abs() < 0.02,
-            "ν measured {nu_measured}, expected {nu}"
-        );
+        assert!((nu_measured / nu - 1.0).abs() < 0.02, "ν measured {nu_measured}, expected {nu}");
     }
 
     #[test]

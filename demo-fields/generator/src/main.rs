@@ -14,6 +14,7 @@ mod sampling;
 mod scenario;
 mod shedding;
 mod simulate;
+mod study;
 
 use std::path::PathBuf;
 use std::process::ExitCode;
@@ -22,7 +23,7 @@ const USAGE: &str = "usage: fin-wake-generator [OUTPUT_DIR]
        fin-wake-generator --blockage-study
 
 Regenerates the fin-wake demo dataset into OUTPUT_DIR (default: the demo-fields folder).
---blockage-study runs the same wake in channels 8, 12 and 16 fin diameters high and prints
+--blockage-study runs the same wake in channels 8 and 16 fin diameters high and prints
 the Strouhal number of each (several minutes; writes nothing).";
 
 fn main() -> ExitCode {
@@ -33,7 +34,9 @@ fn main() -> ExitCode {
             println!("{USAGE}");
             return ExitCode::SUCCESS;
         }
-        [flag] if flag == "--blockage-study" => blockage_study(&scenario::Scenario::fin_wake()),
+        [flag] if flag == "--blockage-study" => {
+            study::blockage_study(&scenario::Scenario::fin_wake())
+        }
         [dir] if !dir.starts_with('-') => run(&scenario::Scenario::fin_wake(), &PathBuf::from(dir)),
         _ => {
             eprintln!("error: unexpected arguments {args:?}\n\n{USAGE}");
@@ -53,40 +56,7 @@ fn main() -> ExitCode {
 /// the command is run from.
 fn default_output_dir() -> PathBuf {
     let manifest = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
-    manifest
-        .parent()
-        .map_or_else(|| PathBuf::from("demo-fields"), |p| p.to_path_buf())
-}
-
-/// Strouhal number of the demo wake in taller channels: how much of the demo's St is
-/// confinement, measured with the same solver, resolution and Re. Wider channels shed with
-/// a slow modulation (a few tenths of a percent in period), so the rule is looser than the
-/// demo's and the mean period is taken over about twenty cycles.
-fn blockage_study(base: &scenario::Scenario) -> Result<(), String> {
-    println!("blockage  channel  St (probe)  cycles  period spread  spin-up steps");
-    for height in [8, 12, 16] {
-        let mut s = base.with_channel_height(height * base.fin_diameter_cells as usize);
-        s.frames = 480;
-        let rule = shedding::PeriodicityRule {
-            cycles: 6,
-            period_tolerance: 0.03,
-            swing_tolerance: 0.3,
-            min_swing: 0.1 * s.inflow_lattice,
-        };
-        let rec = simulate::simulate(&s, &rule, &mut |_| {})?;
-        let period = rec.recorded_cycles.mean_period * s.step_duration;
-        let st = s.fin_diameter() / (period * s.free_stream_speed());
-        println!(
-            "{:>7.2} %  {:>4} D   {:.4}      {:>3}     {:>6.3} %      {}",
-            100.0 * s.blockage(),
-            height,
-            st,
-            rec.recorded_cycles.count,
-            100.0 * rec.recorded_cycles.period_spread,
-            rec.spinup_steps
-        );
-    }
-    Ok(())
+    manifest.parent().map_or_else(|| PathBuf::from("demo-fields"), |p| p.to_path_buf())
 }
 
 /// Simulate, add the measurement errors, check the result, write the files.
@@ -123,11 +93,7 @@ fn run(s: &scenario::Scenario, out_dir: &std::path::Path) -> Result<(), String> 
     };
     let mut rng = rand_pcg::Pcg64::seed_from_u64(s.seed);
     let mut report = noise::ErrorReport::default();
-    for (u, v) in rec
-        .u
-        .chunks_exact_mut(plane)
-        .zip(rec.v.chunks_exact_mut(plane))
-    {
+    for (u, v) in rec.u.chunks_exact_mut(plane).zip(rec.v.chunks_exact_mut(plane)) {
         report.merge(&model.apply(u, v, &rec.mask, &mut rng));
     }
     let fraction = report.spurious_fraction();

@@ -113,11 +113,7 @@ impl ErrorModel {
             v[k] = dy * self.speed_per_pixel;
         }
         let clean = report.valid - report.spurious;
-        report.rms_noise = if clean > 0 {
-            (sum_sq / clean as f64).sqrt()
-        } else {
-            0.0
-        };
+        report.rms_noise = if clean > 0 { (sum_sq / clean as f64).sqrt() } else { 0.0 };
         report
     }
 }
@@ -156,18 +152,10 @@ mod tests {
         assert_eq!(r.valid, n - 1);
         let expected = 0.015 * r.valid as f64;
         let sd = (expected * 0.985).sqrt();
-        assert!(
-            (r.spurious as f64 - expected).abs() < 5.0 * sd,
-            "{}",
-            r.spurious
-        );
+        assert!((r.spurious as f64 - expected).abs() < 5.0 * sd, "{}", r.spurious);
         let z = 0.2 * r.spurious as f64;
         assert!((r.zero_locked as f64 - z).abs() < 5.0 * (z * 0.8).sqrt());
-        assert!(
-            (r.rms_noise / 6.25e-4 - 1.0).abs() < 0.01,
-            "{}",
-            r.rms_noise
-        );
+        assert!((r.rms_noise / 6.25e-4 - 1.0).abs() < 0.01, "{}", r.rms_noise);
         assert_eq!((u[7], v[7]), (0.0, 0.0));
         // Spurious vectors stay inside the correlation plane: |d| ≤ 12 px = 0.075 m/s.
         assert!(u.iter().chain(&v).all(|x| x.abs() <= 0.075 + 1e-12));

@@ -3,7 +3,7 @@
 
 use sillage::field::{Series, SeriesParts};
 use sillage::io::{
-    read_arrays_npz, write_arrays_npz, write_csv_snapshot, write_npz, NpyArray, NpyData,
+    read_arrays_npz, write_arrays_npz, write_csv_snapshot_untimed, write_npz, NpyArray, NpyData,
 };
 use std::path::Path;
 
@@ -43,44 +43,15 @@ pub fn npz_bytes(
 ) -> Result<Vec<u8>, String> {
     let mut arrays = read_arrays_npz(&write_npz(series))
         .map_err(|e| format!("re-reading the canonical archive failed: {e}"))?;
-    arrays.push(NpyArray::new(
-        "free_stream_speed",
-        vec![],
-        NpyData::F64(vec![free_stream_speed]),
-    ));
-    arrays.push(NpyArray::new(
-        "fin_diameter",
-        vec![],
-        NpyData::F64(vec![fin_diameter]),
-    ));
+    arrays.push(NpyArray::new("free_stream_speed", vec![], NpyData::F64(vec![free_stream_speed])));
+    arrays.push(NpyArray::new("fin_diameter", vec![], NpyData::F64(vec![fin_diameter])));
     Ok(write_arrays_npz(&arrays))
 }
 
 /// Snapshot `k` as a CSV table without the time column: the demo tables stand for an
 /// export that does not record time, so loading them exercises giving Δt by hand.
 pub fn csv_without_time(series: &Series, k: usize) -> String {
-    let table = write_csv_snapshot(series, k);
-    let mut lines = table.lines();
-    let header = lines.next().unwrap_or_default();
-    let drop = header.split(',').position(|name| {
-        let name = name.trim().to_ascii_lowercase();
-        name == "t" || name.starts_with("t [") || name.starts_with("time")
-    });
-    let Some(drop) = drop else {
-        return table;
-    };
-    let mut out = String::with_capacity(table.len());
-    for line in std::iter::once(header).chain(lines) {
-        let fields: Vec<&str> = line
-            .split(',')
-            .enumerate()
-            .filter(|&(c, _)| c != drop)
-            .map(|(_, f)| f)
-            .collect();
-        out.push_str(&fields.join(","));
-        out.push('\n');
-    }
-    out
+    write_csv_snapshot_untimed(series, k)
 }
 
 /// Writes `fin-wake.npz` and `fin-wake-csv/fin-wake-0001.csv` … into `dir`.
@@ -136,22 +107,12 @@ mod tests {
     fn npz_round_trip_with_scalars() {
         let s = small();
         let bytes = npz_bytes(&s, 0.0375, 4e-3).unwrap();
-        let back = read_series(
-            &[NamedBytes::new("a.npz", bytes.clone())],
-            &ReadOptions::default(),
-        )
-        .unwrap();
+        let back = read_series(&[NamedBytes::new("a.npz", bytes.clone())], &ReadOptions::default())
+            .unwrap();
         assert_eq!(back.u(), s.u());
         assert_eq!(back.mask(), s.mask());
         let arrays = read_arrays_npz(&bytes).unwrap();
-        let get = |name: &str| {
-            arrays
-                .iter()
-                .find(|a| a.name == name)
-                .unwrap()
-                .to_f64()
-                .unwrap()
-        };
+        let get = |name: &str| arrays.iter().find(|a| a.name == name).unwrap().to_f64().unwrap();
         assert_eq!(get("free_stream_speed"), vec![0.0375]);
         assert_eq!(get("fin_diameter"), vec![4e-3]);
     }
@@ -163,16 +124,9 @@ mod tests {
         let files: Vec<NamedBytes> = (0..2)
             .map(|k| NamedBytes::new(format!("f-{k}.csv"), csv_without_time(&s, k).into_bytes()))
             .collect();
-        assert!(!csv_without_time(&s, 0)
-            .lines()
-            .next()
-            .unwrap()
-            .contains("t ["));
+        assert!(!csv_without_time(&s, 0).lines().next().unwrap().contains("t ["));
         assert!(read_series(&files, &ReadOptions::default()).is_err());
-        let opts = ReadOptions {
-            dt: Some(0.025),
-            ..Default::default()
-        };
+        let opts = ReadOptions { dt: Some(0.025), ..Default::default() };
         let back = read_series(&files, &opts).unwrap();
         assert_eq!(back.u(), s.u());
         assert_eq!(back.v(), s.v());

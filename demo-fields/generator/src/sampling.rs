@@ -29,12 +29,8 @@ impl PivWindow {
     /// Builds the vector grid of `s` over a lattice whose solid nodes are `solid`.
     pub fn new(s: &Scenario, solid: &[bool]) -> PivWindow {
         let (i0, j0) = s.first_vector_node;
-        let columns: Vec<usize> = (0..s.vectors.0)
-            .map(|k| i0 + k * s.vector_pitch_cells)
-            .collect();
-        let rows: Vec<usize> = (0..s.vectors.1)
-            .map(|k| j0 + k * s.vector_pitch_cells)
-            .collect();
+        let columns: Vec<usize> = (0..s.vectors.0).map(|k| i0 + k * s.vector_pitch_cells).collect();
+        let rows: Vec<usize> = (0..s.vectors.1).map(|k| j0 + k * s.vector_pitch_cells).collect();
         let half = s.window_cells / 2;
         let mut weights = vec![1.0; s.window_cells + 1];
         weights[0] = 0.5;
@@ -44,15 +40,7 @@ impl PivWindow {
             .flat_map(|&j| columns.iter().map(move |&i| (i, j)))
             .map(|(i, j)| solid[j * s.nx + i])
             .collect();
-        PivWindow {
-            columns,
-            rows,
-            half,
-            weights,
-            mask,
-            solid: solid.to_vec(),
-            lattice_nx: s.nx,
-        }
+        PivWindow { columns, rows, half, weights, mask, solid: solid.to_vec(), lattice_nx: s.nx }
     }
 
     /// Vectors per row.

@@ -174,7 +174,7 @@ impl Scenario {
         }
         if self.window_cells % 2 != 0 || self.window_cells == 0 {
             return Err(
-                "the interrogation window must span an even, non-zero number of cells".into(),
+                "the interrogation window must span an even, non-zero number of cells".into()
             );
         }
         let half = self.window_cells / 2;
@@ -200,7 +200,7 @@ impl Scenario {
             || cy + r > self.ny as f64 - 2.0
         {
             return Err(
-                "the fin must lie inside the channel, clear of walls, inlet and outlet".into(),
+                "the fin must lie inside the channel, clear of walls, inlet and outlet".into()
             );
         }
         Ok(())

@@ -93,13 +93,7 @@ fn stats(c: &[Cycle]) -> CycleStats {
     };
     let (mean_period, period_spread) = spread(|c| c.period);
     let (mean_swing, swing_spread) = spread(|c| c.swing);
-    CycleStats {
-        count: c.len(),
-        mean_period,
-        period_spread,
-        mean_swing,
-        swing_spread,
-    }
+    CycleStats { count: c.len(), mean_period, period_spread, mean_swing, swing_spread }
 }
 
 /// Rule for "the shedding is periodic": the last `cycles` cycles have periods within
@@ -136,10 +130,7 @@ mod tests {
         let mut tr = CrossingTracker::new();
         for k in 0..3000 {
             let t = k as f64;
-            tr.push(
-                t,
-                0.3 * (2.0 * std::f64::consts::PI * (t + 17.0) / period).sin(),
-            );
+            tr.push(t, 0.3 * (2.0 * std::f64::consts::PI * (t + 17.0) / period).sin());
         }
         let s = tr.last_stats(10).unwrap();
         assert!((s.mean_period - period).abs() < 1e-3, "{}", s.mean_period);

@@ -58,21 +58,15 @@ pub fn simulate(
     let d = s.fin_diameter_cells;
     let u0 = s.inflow_lattice;
     // Uniform start with a transverse kick just behind the fin, upper half only: breaks the
-    // top–bottom symmetry so shedding starts within a few thousand steps instead of
-    // waiting for round-off to grow.
+    // top–bottom symmetry so the wake starts shedding early instead of waiting for
+    // round-off to grow; the spin-up is then the approach to a steady cycle.
     let start = |i: usize, j: usize| {
         let (x, y) = (i as f64, j as f64);
         let kicked = x > xc + r && x <= xc + r + d && y > yc && y <= yc + d;
         (u0, if kicked { 0.3 * u0 } else { 0.0 })
     };
-    let mut lattice = Lattice::new(
-        nx,
-        ny,
-        s.tau(),
-        node_kinds(nx, ny, &solid),
-        links(nx, ny, &solid),
-        start,
-    );
+    let mut lattice =
+        Lattice::new(nx, ny, s.tau(), node_kinds(nx, ny, &solid), links(nx, ny, &solid), start);
     let window = PivWindow::new(s, &solid);
 
     // Probe: v on the centre line 3 D behind the fin centre (mean of the two rows that
@@ -92,9 +86,7 @@ pub fn simulate(
             break stats;
         }
         if step % 2000 == 0 && !lattice.is_finite() {
-            return Err(format!(
-                "the lattice blew up (non-finite populations) at step {step}"
-            ));
+            return Err(format!("the lattice blew up (non-finite populations) at step {step}"));
         }
         if step as usize >= s.max_spinup_steps {
             let last = tracker
@@ -161,9 +153,7 @@ pub fn simulate(
     let (cols, rows) = window.nodes();
     let x = cols.iter().map(|&i| s.node_position(i, 0).0).collect();
     let y = rows.iter().map(|&j| s.node_position(0, j).1).collect();
-    let t = (0..s.frames)
-        .map(|k| k as f64 * s.frame_interval())
-        .collect();
+    let t = (0..s.frames).map(|k| k as f64 * s.frame_interval()).collect();
     Ok(CleanRecording {
         x,
         y,

@@ -29,10 +29,7 @@ pub struct Args {
 
 pub fn run(args: Args) -> Result<(), String> {
     if !(args.threshold.is_finite() && args.threshold > 0.0) {
-        return Err(format!(
-            "--threshold must be a positive number, not {}",
-            args.threshold
-        ));
+        return Err(format!("--threshold must be a positive number, not {}", args.threshold));
     }
     if let Some(e) = args.epsilon {
         if !(e.is_finite() && e >= 0.0) {
@@ -50,10 +47,7 @@ pub fn run(args: Args) -> Result<(), String> {
         u.length.to_si() / u.time.to_si()
     };
     let opts = CleanOptions {
-        test: MedianTest {
-            threshold: args.threshold,
-            epsilon: args.epsilon.map(|e| e * to_si),
-        },
+        test: MedianTest { threshold: args.threshold, epsilon: args.epsilon.map(|e| e * to_si) },
         passes: args.passes,
     };
     let (cleaned, report) = clean(&series, &opts);

@@ -41,12 +41,7 @@ pub enum RouteArg {
 }
 
 pub fn run(args: Args) -> Result<(), String> {
-    if args
-        .out
-        .extension()
-        .and_then(|e| e.to_str())
-        .map(str::to_lowercase)
-        .as_deref()
+    if args.out.extension().and_then(|e| e.to_str()).map(str::to_lowercase).as_deref()
         != Some("npz")
     {
         return Err(format!("--out '{}' must end in .npz", args.out.display()));
@@ -60,9 +55,7 @@ pub fn run(args: Args) -> Result<(), String> {
         RouteArg::Variational => GradientRoute::Variational,
         RouteArg::TracerGrid => GradientRoute::TracerGrid,
         RouteArg::Auxiliary => GradientRoute::Auxiliary {
-            offset: args
-                .offset
-                .map_or(0.1 * grid.x.step.min(grid.y.step), |d| d * lf),
+            offset: args.offset.map_or(0.1 * grid.x.step.min(grid.y.step), |d| d * lf),
         },
     };
     let field = GriddedField::new(&series, la.space(), la.time());
@@ -74,10 +67,7 @@ pub fn run(args: Args) -> Result<(), String> {
     write(&args.out, &npz(&r))?;
     println!("wrote {}", args.out.display());
     if let Some(path) = &args.vti {
-        let g = Grid {
-            x: r.grid.x,
-            y: r.grid.y,
-        };
+        let g = Grid { x: r.grid.x, y: r.grid.y };
         let flag: Vec<f32> = r.flag.iter().map(|&f| f as u8 as f32).collect();
         let bytes = write_vti(
             &g,
@@ -130,11 +120,7 @@ fn npz(r: &FtleRows) -> Vec<u8> {
         map("ftle", &r.ftle),
         map("exit_time", &r.tau),
         map("det_deviation", &r.det_deviation),
-        NpyArray::new(
-            "flag",
-            vec![ny, nx],
-            NpyData::U8(r.flag.iter().map(|&f| f as u8).collect()),
-        ),
+        NpyArray::new("flag", vec![ny, nx], NpyData::U8(r.flag.iter().map(|&f| f as u8).collect())),
         NpyArray::new("horizon", vec![], NpyData::F64(vec![r.horizon])),
     ])
 }

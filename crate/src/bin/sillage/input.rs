@@ -21,12 +21,7 @@ pub struct InputArgs {
     #[arg(long, value_name = "DT")]
     pub dt: Option<f64>,
     /// Time of the first snapshot when times come from --dt.
-    #[arg(
-        long,
-        value_name = "T",
-        default_value_t = 0.0,
-        allow_negative_numbers = true
-    )]
+    #[arg(long, value_name = "T", default_value_t = 0.0, allow_negative_numbers = true)]
     pub t_start: f64,
 }
 
@@ -43,10 +38,6 @@ impl InputArgs {
 
     /// The inputs as one display string.
     pub fn describe(&self) -> String {
-        self.data
-            .iter()
-            .map(|p| p.display().to_string())
-            .collect::<Vec<_>>()
-            .join(", ")
+        self.data.iter().map(|p| p.display().to_string()).collect::<Vec<_>>().join(", ")
     }
 }

@@ -33,11 +33,7 @@ struct Report {
 /// Four significant digits, no trailing noise.
 pub fn num(x: f64) -> String {
     if x == 0.0 || (1e-3..1e5).contains(&x.abs()) {
-        let s = format!(
-            "{:.*}",
-            (3 - x.abs().log10().floor().max(-3.0) as i32).max(0) as usize,
-            x
-        );
+        let s = format!("{:.*}", (3 - x.abs().log10().floor().max(-3.0) as i32).max(0) as usize, x);
         if s.contains('.') {
             s.trim_end_matches('0').trim_end_matches('.').to_string()
         } else {
@@ -55,10 +51,7 @@ fn percent(part: usize, whole: usize) -> String {
 pub fn run(args: Args) -> Result<(), String> {
     let series = args.input.read()?;
     let summary = Summary::of(&series);
-    let test = MedianTest {
-        threshold: args.threshold,
-        epsilon: None,
-    };
+    let test = MedianTest { threshold: args.threshold, epsilon: None };
     let per_snapshot = count_outliers(&series, &test);
     let outliers: usize = per_snapshot.iter().sum();
     let mut warnings = Vec::new();
@@ -90,10 +83,7 @@ pub fn run(args: Args) -> Result<(), String> {
         summary,
     };
     if args.json {
-        println!(
-            "{}",
-            serde_json::to_string_pretty(&report).map_err(|e| e.to_string())?
-        );
+        println!("{}", serde_json::to_string_pretty(&report).map_err(|e| e.to_string())?);
         return Ok(());
     }
     let s = &report.summary;
@@ -118,11 +108,7 @@ pub fn run(args: Args) -> Result<(), String> {
         num(s.t_first),
         num(s.t_last),
         num(s.dt_mean),
-        if s.dt_nonuniformity <= 1e-3 {
-            " (uniform)"
-        } else {
-            " (NOT uniform)"
-        }
+        if s.dt_nonuniformity <= 1e-3 { " (uniform)" } else { " (NOT uniform)" }
     );
     println!(
         "units        file: {}, {} → computed in {l}, {t}; velocity in {vel}",

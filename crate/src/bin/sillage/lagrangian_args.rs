@@ -96,19 +96,13 @@ impl LagrangianArgs {
                 self.horizon
             ));
         }
-        let horizon = if self.backward {
-            -self.horizon
-        } else {
-            self.horizon
-        } * tf;
+        let horizon = if self.backward { -self.horizon } else { self.horizon } * tf;
         let integrator = if self.adaptive {
             Integrator::DormandPrince(DopriOptions {
                 rtol: self.rtol,
                 atol: self
                     .atol
-                    .map_or(1e-6 * series.grid().x.step.min(series.grid().y.step), |a| {
-                        a * lf
-                    }),
+                    .map_or(1e-6 * series.grid().x.step.min(series.grid().y.step), |a| a * lf),
                 ..DopriOptions::default()
             })
         } else {
@@ -134,12 +128,7 @@ impl LagrangianArgs {
         let g = series.grid();
         let lf = series.source_units().length.to_si();
         let rect = match &self.region {
-            None => Rect {
-                x0: g.x.start,
-                x1: g.x.end(),
-                y0: g.y.start,
-                y1: g.y.end(),
-            },
+            None => Rect { x0: g.x.start, x1: g.x.end(), y0: g.y.start, y1: g.y.end() },
             Some(text) => {
                 let v: Vec<f64> = text
                     .split(',')
@@ -149,12 +138,7 @@ impl LagrangianArgs {
                 if v.len() != 4 {
                     return Err(format!("--region '{text}' needs four numbers X0,X1,Y0,Y1"));
                 }
-                Rect {
-                    x0: v[0] * lf,
-                    x1: v[1] * lf,
-                    y0: v[2] * lf,
-                    y1: v[3] * lf,
-                }
+                Rect { x0: v[0] * lf, x1: v[1] * lf, y0: v[2] * lf, y1: v[3] * lf }
             }
         };
         let (nx, ny) = match &self.grid {
@@ -189,11 +173,7 @@ fn default_step(series: &Series) -> f64 {
         .zip(series.v())
         .map(|(a, b)| (*a as f64).hypot(*b as f64))
         .fold(0.0, f64::max);
-    let mut step = if vmax > 0.0 {
-        0.5 * h / vmax
-    } else {
-        f64::INFINITY
-    };
+    let mut step = if vmax > 0.0 { 0.5 * h / vmax } else { f64::INFINITY };
     let t = series.times();
     if t.len() > 1 {
         step = step.min((t[t.len() - 1] - t[0]) / (t.len() - 1) as f64);

@@ -8,7 +8,9 @@ mod ftle;
 mod input;
 mod inspect;
 mod lagrangian_args;
+mod modes;
 mod output;
+mod select;
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
@@ -19,12 +21,7 @@ use std::process::ExitCode;
 /// exports (one table per snapshot; a folder or several files). Everything is computed in
 /// SI units; outputs say which.
 #[derive(Parser)]
-#[command(
-    name = "sillage",
-    version,
-    propagate_version = true,
-    max_term_width = 100
-)]
+#[command(name = "sillage", version, propagate_version = true, max_term_width = 100)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -42,6 +39,10 @@ enum Command {
     /// Finite-time Lyapunov exponents of one start time over a tracer grid: the FTLE map,
     /// the time each tracer was integrated, and the det ∇F = 1 quality map.
     Ftle(ftle::Args),
+    /// Modal decomposition (POD, DMD or SPOD): energies, eigenvalues or spectra, modes, coefficients as .npz.
+    Modes(modes::Args),
+    /// The velocity field formed by a selection of modes, e.g. "mean + pod(1-2)".
+    Select(select::Args),
 }
 
 fn main() -> ExitCode {
@@ -51,6 +52,8 @@ fn main() -> ExitCode {
         Command::Clean(a) => clean::run(a),
         Command::Convert(a) => convert::run(a),
         Command::Ftle(a) => ftle::run(a),
+        Command::Modes(a) => modes::run(a),
+        Command::Select(a) => select::run(a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

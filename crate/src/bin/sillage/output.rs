@@ -14,12 +14,7 @@ pub enum Format {
 
 /// The format named by `path`'s extension.
 pub fn format_of(path: &Path) -> Result<Format, String> {
-    match path
-        .extension()
-        .and_then(|e| e.to_str())
-        .map(str::to_lowercase)
-        .as_deref()
-    {
+    match path.extension().and_then(|e| e.to_str()).map(str::to_lowercase).as_deref() {
         Some("npz") => Ok(Format::Npz),
         Some("vti") => Ok(Format::Vti),
         Some("csv") => Ok(Format::Csv),
@@ -35,10 +30,7 @@ fn numbered(path: &Path, k: usize, nt: usize) -> PathBuf {
     if nt == 1 {
         return path.to_path_buf();
     }
-    let stem = path
-        .file_stem()
-        .and_then(|s| s.to_str())
-        .unwrap_or("snapshot");
+    let stem = path.file_stem().and_then(|s| s.to_str()).unwrap_or("snapshot");
     let ext = path.extension().and_then(|s| s.to_str()).unwrap_or("");
     let width = (nt - 1).to_string().len().max(4);
     path.with_file_name(format!("{stem}_{k:0width$}.{ext}"))
@@ -88,12 +80,9 @@ pub fn describe_written(files: &[PathBuf]) -> String {
     match files {
         [] => "nothing written".into(),
         [one] => format!("wrote {}", one.display()),
-        [first, .., last] => format!(
-            "wrote {} files, {} … {}",
-            files.len(),
-            first.display(),
-            last.display()
-        ),
+        [first, .., last] => {
+            format!("wrote {} files, {} … {}", files.len(), first.display(), last.display())
+        }
     }
 }
 
@@ -103,14 +92,9 @@ mod tests {
 
     #[test]
     fn numbering_and_formats() {
-        assert_eq!(
-            numbered(Path::new("out/a.vti"), 7, 240),
-            PathBuf::from("out/a_0007.vti")
-        );
+        assert_eq!(numbered(Path::new("out/a.vti"), 7, 240), PathBuf::from("out/a_0007.vti"));
         assert_eq!(numbered(Path::new("a.csv"), 0, 1), PathBuf::from("a.csv"));
         assert_eq!(format_of(Path::new("x.NPZ")).unwrap(), Format::Npz);
-        assert!(format_of(Path::new("x.h5"))
-            .unwrap_err()
-            .contains(".npz, .vti or .csv"));
+        assert!(format_of(Path::new("x.h5")).unwrap_err().contains(".npz, .vti or .csv"));
     }
 }

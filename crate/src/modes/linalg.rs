@@ -1,0 +1,88 @@
+//! Thin SVD of a tall snapshot matrix by two routes, both from faer: the snapshot method
+//! (eigen-decomposition of the m × m correlation YᵀY, Sirovich 1987, Q. Appl. Math. 45:561)
+//! and a direct one-sided SVD. Measured on this project's machine (BENCHMARKS.md, "Modes")
+//! the snapshot method is 4–30× faster whenever n ≥ m, so `Auto` picks it then.
+//!
+//! Accuracy: the direct SVD gives every singular value to about ε·s₁ absolute. The snapshot
+//! method gives λ = s² to about ε·s₁², so s_j is accurate to a relative ε(s₁/s_j)²/2: fine
+//! for the energetic modes POD is used for, not for the tail. Values below the numerical
+//! rank (s_j ≤ tol) are dropped in both routes, so no mode is ever built from round-off.
+
+use super::ModesError;
+use faer::{Mat, MatRef, Side};
+
+/// Y ≈ U diag(s) Vᵀ with U (n × r), s (r, nonincreasing), V (m × r).
+#[derive(Debug, Clone)]
+pub struct ThinSvd {
+    pub u: Mat<f64>,
+    pub s: Vec<f64>,
+    pub v: Mat<f64>,
+}
+
+/// Which thin-SVD route to take.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+pub enum SvdRoute {
+    /// Snapshot method when n ≥ m, else the direct SVD.
+    Auto,
+    /// Eigen-decomposition of the m × m correlation matrix.
+    Snapshot,
+    /// One-sided thin SVD of the n × m matrix.
+    Direct,
+}
+
+impl SvdRoute {
+    /// The route `Auto` resolves to for an n × m matrix.
+    pub fn resolve(self, n: usize, m: usize) -> SvdRoute {
+        match self {
+            SvdRoute::Auto if n >= m => SvdRoute::Snapshot,
+            SvdRoute::Auto => SvdRoute::Direct,
+            r => r,
+        }
+    }
+}
+
+/// Thin SVD of `y` by `route`, keeping at most `rank` triplets.
+pub fn thin_svd(y: MatRef<'_, f64>, route: SvdRoute, rank: usize) -> Result<ThinSvd, ModesError> {
+    match route.resolve(y.nrows(), y.ncols()) {
+        SvdRoute::Snapshot => svd_snapshot(y, rank),
+        _ => svd_direct(y, rank),
+    }
+}
+
+/// Snapshot method: YᵀY = V Λ Vᵀ, s = √λ, U = Y V diag(1/s). Keeps λ_j > m·ε·λ₁ (below that
+/// the eigenvalue is round-off of the correlation matrix).
+pub fn svd_snapshot(y: MatRef<'_, f64>, rank: usize) -> Result<ThinSvd, ModesError> {
+    let m = y.ncols();
+    let g = y.transpose() * y;
+    let eig = g.self_adjoint_eigen(Side::Lower).map_err(|_| ModesError::NoConvergence {
+        what: "symmetric eigensolver (snapshot method)",
+    })?;
+    let lam = eig.S();
+    let top = lam[m - 1].max(0.0);
+    let tol = top * m as f64 * f64::EPSILON;
+    let r = (0..m.min(rank)).take_while(|&j| lam[m - 1 - j] > tol).count();
+    let s: Vec<f64> = (0..r).map(|j| lam[m - 1 - j].sqrt()).collect();
+    let v = Mat::from_fn(m, r, |i, j| eig.U()[(i, m - 1 - j)]);
+    let mut u = y * &v;
+    for (j, sj) in s.iter().enumerate() {
+        u.col_as_slice_mut(j).iter_mut().for_each(|x| *x *= 1.0 / sj);
+    }
+    Ok(ThinSvd { u, s, v })
+}
+
+/// Direct thin SVD; keeps s_j > max(n, m)·ε·s₁.
+pub fn svd_direct(y: MatRef<'_, f64>, rank: usize) -> Result<ThinSvd, ModesError> {
+    let (n, m) = (y.nrows(), y.ncols());
+    let svd = y
+        .thin_svd()
+        .map_err(|_| ModesError::NoConvergence { what: "singular value decomposition" })?;
+    let sv = svd.S();
+    let k = n.min(m);
+    let tol = if k > 0 { sv[0] * n.max(m) as f64 * f64::EPSILON } else { 0.0 };
+    let r = (0..k.min(rank)).take_while(|&j| sv[j] > tol).count();
+    Ok(ThinSvd {
+        u: svd.U().subcols(0, r).to_owned(),
+        s: (0..r).map(|j| sv[j]).collect(),
+        v: svd.V().subcols(0, r).to_owned(),
+    })
+}
