@@ -21,11 +21,9 @@ use std::time::Duration;
 const RANK: usize = 20;
 
 fn demo() -> Series {
-    let path = std::env::var_os("SILLAGE_BENCH_DATA")
-        .map(PathBuf::from)
-        .unwrap_or_else(|| {
-            PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../demo-fields/fin-wake.npz")
-        });
+    let path = std::env::var_os("SILLAGE_BENCH_DATA").map(PathBuf::from).unwrap_or_else(|| {
+        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../demo-fields/fin-wake.npz")
+    });
     read_paths(std::slice::from_ref(&path), &ReadOptions::default())
         .unwrap_or_else(|e| panic!("cannot read the benchmark data {}: {e}", path.display()))
 }
@@ -43,11 +41,11 @@ pub fn synthetic(nx: usize, ny: usize, nt: usize) -> Series {
         let (kx, ky) = (1.0 + jf, 2.0 + 0.5 * jf);
         let om = 3.0 + 1.7 * jf;
         let ph = 0.37 * jf;
-        for k in 0..nt {
-            let ct = om * t[k] + ph;
-            for jj in 0..ny {
-                for i in 0..nx {
-                    let arg = kx * x[i] + ky * y[jj] - ct;
+        for (k, &tk) in t.iter().enumerate() {
+            let ct = om * tk + ph;
+            for (jj, &yj) in y.iter().enumerate() {
+                for (i, &xi) in x.iter().enumerate() {
+                    let arg = kx * xi + ky * yj - ct;
                     let idx = k * plane + jj * nx + i;
                     u[idx] += (a * arg.sin()) as f32;
                     v[idx] += (a * (arg + 0.5).cos()) as f32;
@@ -55,30 +53,16 @@ pub fn synthetic(nx: usize, ny: usize, nt: usize) -> Series {
             }
         }
     }
-    Series::from_parts(SeriesParts {
-        x,
-        y,
-        t,
-        u,
-        v,
-        ..Default::default()
-    })
-    .expect("synthetic series is valid")
+    Series::from_parts(SeriesParts { x, y, t, u, v, ..Default::default() })
+        .expect("synthetic series is valid")
 }
 
 fn options(solver: PodSolver) -> PodOptions {
-    PodOptions {
-        rank: Some(RANK),
-        solver,
-        subtract_mean: true,
-    }
+    PodOptions { rank: Some(RANK), solver, subtract_mean: true }
 }
 
 fn randomized(q: usize) -> PodSolver {
-    PodSolver::Randomized(RandomizedSvd {
-        power_iterations: q,
-        ..Default::default()
-    })
+    PodSolver::Randomized(RandomizedSvd { power_iterations: q, ..Default::default() })
 }
 
 fn bench(c: &mut Criterion) {

@@ -38,11 +38,9 @@ const STEP: f64 = 0.005;
 const ROWS_PER_TASK: usize = 4;
 
 fn data_path() -> PathBuf {
-    std::env::var_os("SILLAGE_BENCH_DATA")
-        .map(PathBuf::from)
-        .unwrap_or_else(|| {
-            PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../demo-fields/fin-wake.npz")
-        })
+    std::env::var_os("SILLAGE_BENCH_DATA").map(PathBuf::from).unwrap_or_else(|| {
+        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../demo-fields/fin-wake.npz")
+    })
 }
 
 fn load() -> Series {
@@ -76,11 +74,7 @@ fn flow_map_serial(field: &GriddedField, grid: &TracerGrid, o: &AdvectOptions) -
 fn flow_map_parallel(field: &GriddedField, grid: &TracerGrid, o: &AdvectOptions) -> u64 {
     row_ranges(grid)
         .par_iter()
-        .map(|&(j0, j1)| {
-            flow_map_rows(field, grid, o, j0, j1)
-                .expect("flow map")
-                .rhs_calls
-        })
+        .map(|&(j0, j1)| flow_map_rows(field, grid, o, j0, j1).expect("flow map").rhs_calls)
         .sum()
 }
 
@@ -91,12 +85,7 @@ fn ftle_serial(field: &GriddedField, grid: &TracerGrid, o: &FtleOptions) -> Ftle
 fn ftle_parallel(field: &GriddedField, grid: &TracerGrid, o: &FtleOptions) -> u64 {
     row_ranges(grid)
         .par_iter()
-        .map(|&(j0, j1)| {
-            ftle_rows(field, grid, o, j0, j1)
-                .expect("ftle")
-                .stats
-                .rhs_calls
-        })
+        .map(|&(j0, j1)| ftle_rows(field, grid, o, j0, j1).expect("ftle").stats.rhs_calls)
         .sum()
 }
 
@@ -104,10 +93,7 @@ fn transport(c: &mut Criterion) {
     let series = load();
     let field = GriddedField::new(&series, SpaceInterp::Bilinear, TimeInterp::Linear);
     let o = advect();
-    let fo = FtleOptions {
-        advect: o,
-        route: GradientRoute::Variational,
-    };
+    let fo = FtleOptions { advect: o, route: GradientRoute::Variational };
     let threads = rayon::current_num_threads();
     for (nx, ny) in [(64, 32), (256, 128)] {
         let grid = TracerGrid::over_window(&field, nx, ny).expect("tracer grid");
@@ -128,10 +114,9 @@ fn transport(c: &mut Criterion) {
         g.bench_function(BenchmarkId::new("serial", &size), |b| {
             b.iter(|| black_box(flow_map_serial(&field, &grid, &o).rhs_calls))
         });
-        g.bench_function(
-            BenchmarkId::new(format!("rayon_{threads}_threads"), &size),
-            |b| b.iter(|| black_box(flow_map_parallel(&field, &grid, &o))),
-        );
+        g.bench_function(BenchmarkId::new(format!("rayon_{threads}_threads"), &size), |b| {
+            b.iter(|| black_box(flow_map_parallel(&field, &grid, &o)))
+        });
         g.finish();
 
         let steps = ftle_serial(&field, &grid, &fo).stats.rhs_calls / 4;
@@ -144,10 +129,9 @@ fn transport(c: &mut Criterion) {
         g.bench_function(BenchmarkId::new("serial", &size), |b| {
             b.iter(|| black_box(ftle_serial(&field, &grid, &fo).stats.rhs_calls))
         });
-        g.bench_function(
-            BenchmarkId::new(format!("rayon_{threads}_threads"), &size),
-            |b| b.iter(|| black_box(ftle_parallel(&field, &grid, &fo))),
-        );
+        g.bench_function(BenchmarkId::new(format!("rayon_{threads}_threads"), &size), |b| {
+            b.iter(|| black_box(ftle_parallel(&field, &grid, &fo)))
+        });
         g.finish();
     }
 }

@@ -39,9 +39,7 @@ struct Request {
 
 fn main() -> Result<(), String> {
     let mut text = String::new();
-    std::io::stdin()
-        .read_to_string(&mut text)
-        .map_err(|e| e.to_string())?;
+    std::io::stdin().read_to_string(&mut text).map_err(|e| e.to_string())?;
     let req: Request = serde_json::from_str(&text).map_err(|e| format!("bad request: {e}"))?;
     let flow = match req.flow.as_str() {
         "periodic_gyre" => DoubleGyre::periodic(),

@@ -14,38 +14,21 @@ fn ftle_subcommand_on_a_sampled_saddle() {
     std::fs::create_dir_all(&dir).unwrap();
     let data = dir.join("saddle.npz");
     let ax = linspace(-1.0, 1.0, 64);
-    let s = sample_series(
-        &LinearSaddle { lambda: 0.5 },
-        &ax,
-        &ax,
-        &linspace(0.0, 4.0, 5),
-    )
-    .unwrap();
+    let s = sample_series(&LinearSaddle { lambda: 0.5 }, &ax, &ax, &linspace(0.0, 4.0, 5)).unwrap();
     std::fs::write(&data, write_npz(&s)).unwrap();
     for backward in [false, true] {
         let out = dir.join(format!("ftle_{backward}.npz"));
         let mut cmd = Command::new(env!("CARGO_BIN_EXE_sillage"));
-        cmd.arg("ftle")
-            .arg(&data)
-            .args(["--horizon", "2", "--grid", "40x30"]);
+        cmd.arg("ftle").arg(&data).args(["--horizon", "2", "--grid", "40x30"]);
         if backward {
             cmd.args(["--t0", "4", "--backward"]);
         } else {
             cmd.args(["--t0", "0"]);
         }
         let res = cmd.arg("--out").arg(&out).output().unwrap();
-        assert!(
-            res.status.success(),
-            "{}",
-            String::from_utf8_lossy(&res.stderr)
-        );
+        assert!(res.status.success(), "{}", String::from_utf8_lossy(&res.stderr));
         let arrays = read_arrays_npz(&std::fs::read(&out).unwrap()).unwrap();
-        let get = |n: &str| {
-            arrays
-                .iter()
-                .find(|a| a.name == n)
-                .unwrap_or_else(|| panic!("no {n}"))
-        };
+        let get = |n: &str| arrays.iter().find(|a| a.name == n).unwrap_or_else(|| panic!("no {n}"));
         assert_eq!(get("x").shape, vec![40]);
         assert_eq!(get("y").shape, vec![30]);
         for n in ["ftle", "exit_time", "det_deviation", "flag"] {
@@ -53,9 +36,7 @@ fn ftle_subcommand_on_a_sampled_saddle() {
         }
         let ftle = get("ftle").to_f32().unwrap();
         let flag = get("flag").data.clone();
-        let sillage::io::NpyData::U8(flag) = flag else {
-            panic!("flag is not u8")
-        };
+        let sillage::io::NpyData::U8(flag) = flag else { panic!("flag is not u8") };
         let mut valued = 0;
         for (s, f) in ftle.iter().zip(&flag) {
             if *f <= 2 {

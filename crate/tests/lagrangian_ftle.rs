@@ -15,12 +15,7 @@ use std::f64::consts::PI;
 
 fn opts(t0: f64, horizon: f64, integrator: Integrator, route: GradientRoute) -> FtleOptions {
     FtleOptions {
-        advect: AdvectOptions {
-            t0,
-            horizon,
-            integrator,
-            boundary: BoundaryPolicy::Stop,
-        },
+        advect: AdvectOptions { t0, horizon, integrator, boundary: BoundaryPolicy::Stop },
         route,
     }
 }
@@ -28,11 +23,7 @@ fn opts(t0: f64, horizon: f64, integrator: Integrator, route: GradientRoute) -> 
 const RK4_FINE: Integrator = Integrator::Rk4 { max_step: 0.005 };
 
 fn tight() -> Integrator {
-    Integrator::DormandPrince(DopriOptions {
-        rtol: 1e-10,
-        atol: 1e-12,
-        max_steps: 1_000_000,
-    })
+    Integrator::DormandPrince(DopriOptions { rtol: 1e-10, atol: 1e-12, max_steps: 1_000_000 })
 }
 
 const ROUTES: [GradientRoute; 3] = [
@@ -42,12 +33,7 @@ const ROUTES: [GradientRoute; 3] = [
 ];
 
 fn square(h: f64) -> Rect {
-    Rect {
-        x0: -h,
-        x1: h,
-        y0: -h,
-        y1: h,
-    }
+    Rect { x0: -h, x1: h, y0: -h, y1: h }
 }
 
 /// σ₁, σ₂ in closed form against the SVD of known matrices: a rotation (1, 1), a diagonal
@@ -59,19 +45,12 @@ fn singular_values_closed_form() {
     let cases: [([[f64; 2]; 2], f64, f64); 4] = [
         ([[c, -s], [s, c]], 1.0, 1.0),
         ([[0.25, 0.0], [0.0, 4.0]], 4.0, 0.25),
-        (
-            [[1.0, 2.0], [0.0, 1.0]],
-            2f64.sqrt() + 1.0,
-            2f64.sqrt() - 1.0,
-        ),
+        ([[1.0, 2.0], [0.0, 1.0]], 2f64.sqrt() + 1.0, 2f64.sqrt() - 1.0),
         ([[3.0, 0.0], [4.0, 5.0]], 45f64.sqrt(), 5f64.sqrt()),
     ];
     for (m, s1, s2) in cases {
         let (a, b) = singular_values(m);
-        assert!(
-            (a - s1).abs() < 1e-14 && (b - s2).abs() < 1e-14,
-            "{m:?}: {a}, {b}"
-        );
+        assert!((a - s1).abs() < 1e-14 && (b - s2).abs() < 1e-14, "{m:?}: {a}, {b}");
     }
 }
 
@@ -164,10 +143,7 @@ fn shear_closed_form() {
         for route in ROUTES {
             let r = ftle_field(&f, &grid, &opts(0.0, horizon, RK4_FINE, route)).unwrap();
             for &s in &r.ftle {
-                assert!(
-                    (s as f64 - want).abs() < 1e-6,
-                    "T {horizon} {route:?}: {s} vs {want}"
-                );
+                assert!((s as f64 - want).abs() < 1e-6, "T {horizon} {route:?}: {s} vs {want}");
             }
         }
     }
@@ -181,26 +157,11 @@ fn steady_double_gyre_values_and_bound() {
     let a = 0.1;
     let f = DoubleGyre::steady(a);
     let o = opts(0.0, 15.0, RK4_FINE, GradientRoute::Variational);
-    let pts = TracerGrid::new(
-        Rect {
-            x0: 0.99,
-            x1: 1.01,
-            y0: 0.5,
-            y1: 0.6,
-        },
-        3,
-        2,
-    )
-    .unwrap();
+    let pts = TracerGrid::new(Rect { x0: 0.99, x1: 1.01, y0: 0.5, y1: 0.6 }, 3, 2).unwrap();
     let r = ftle_field(&f, &pts, &o).unwrap();
     let want = [0.3015, 0.9408, 0.3015];
     for (i, w) in want.iter().enumerate() {
-        assert!(
-            (r.at(i, 0) as f64 - w).abs() < 1e-4,
-            "x = {}: {}",
-            pts.x.coord(i),
-            r.at(i, 0)
-        );
+        assert!((r.at(i, 0) as f64 - w).abs() < 1e-4, "x = {}: {}", pts.x.coord(i), r.at(i, 0));
     }
     let grid = TracerGrid::new(DoubleGyre::domain(), 41, 21).unwrap();
     let r = ftle_field(&f, &grid, &o).unwrap();
@@ -216,40 +177,17 @@ fn steady_double_gyre_values_and_bound() {
 #[test]
 fn steady_double_gyre_ridge_on_x_equals_one() {
     let f = DoubleGyre::steady(0.1);
-    let grid = TracerGrid::new(
-        Rect {
-            x0: 0.6,
-            x1: 1.4,
-            y0: 0.1,
-            y1: 0.9,
-        },
-        41,
-        9,
-    )
-    .unwrap();
+    let grid = TracerGrid::new(Rect { x0: 0.6, x1: 1.4, y0: 0.1, y1: 0.9 }, 41, 9).unwrap();
     let r = ftle_field(
         &f,
         &grid,
-        &opts(
-            0.0,
-            15.0,
-            Integrator::Rk4 { max_step: 0.01 },
-            GradientRoute::Variational,
-        ),
+        &opts(0.0, 15.0, Integrator::Rk4 { max_step: 0.01 }, GradientRoute::Variational),
     )
     .unwrap();
     for j in 0..grid.ny() {
         let row: Vec<f32> = (0..grid.nx()).map(|i| r.at(i, j)).collect();
-        let imax = (0..row.len())
-            .max_by(|&a, &b| row[a].total_cmp(&row[b]))
-            .unwrap();
-        assert_eq!(
-            imax,
-            20,
-            "row y = {}: ridge at x = {}",
-            grid.y.coord(j),
-            grid.x.coord(imax)
-        );
+        let imax = (0..row.len()).max_by(|&a, &b| row[a].total_cmp(&row[b])).unwrap();
+        assert_eq!(imax, 20, "row y = {}: ridge at x = {}", grid.y.coord(j), grid.x.coord(imax));
     }
 }
 
@@ -262,86 +200,34 @@ fn steady_double_gyre_ridge_on_x_equals_one() {
 #[test]
 fn routes_agree_and_differ_as_expected() {
     let f = DoubleGyre::periodic();
-    let grid = TracerGrid::new(
-        Rect {
-            x0: 0.3,
-            x1: 0.32,
-            y0: 0.3,
-            y1: 0.32,
-        },
-        5,
-        5,
-    )
-    .unwrap();
+    let grid = TracerGrid::new(Rect { x0: 0.3, x1: 0.32, y0: 0.3, y1: 0.32 }, 5, 5).unwrap();
     let results: Vec<Vec<f32>> = [
         GradientRoute::TracerGrid,
         GradientRoute::Auxiliary { offset: 1e-5 },
         GradientRoute::Variational,
     ]
     .iter()
-    .map(|&route| {
-        ftle_field(&f, &grid, &opts(0.0, 5.0, tight(), route))
-            .unwrap()
-            .ftle
-    })
+    .map(|&route| ftle_field(&f, &grid, &opts(0.0, 5.0, tight(), route)).unwrap().ftle)
     .collect();
-    for (n, ((&a, &b), &c)) in results[0]
-        .iter()
-        .zip(&results[1])
-        .zip(&results[2])
-        .enumerate()
-    {
-        assert!(
-            (b - c).abs() < 1e-5,
-            "node {n}: auxiliary {b} vs variational {c}"
-        );
-        assert!(
-            (a - c).abs() < 2e-3,
-            "node {n}: tracer grid {a} vs variational {c}"
-        );
+    for (n, ((&a, &b), &c)) in results[0].iter().zip(&results[1]).zip(&results[2]).enumerate() {
+        assert!((b - c).abs() < 1e-5, "node {n}: auxiliary {b} vs variational {c}");
+        assert!((a - c).abs() < 2e-3, "node {n}: tracer grid {a} vs variational {c}");
     }
     let steady = DoubleGyre::steady(0.1);
-    let one = TracerGrid::new(
-        Rect {
-            x0: 1.0,
-            x1: 1.01,
-            y0: 0.5,
-            y1: 0.51,
-        },
-        2,
-        2,
-    )
-    .unwrap();
-    let var = ftle_field(
-        &steady,
-        &one,
-        &opts(0.0, 15.0, RK4_FINE, GradientRoute::Variational),
-    )
-    .unwrap();
+    let one = TracerGrid::new(Rect { x0: 1.0, x1: 1.01, y0: 0.5, y1: 0.51 }, 2, 2).unwrap();
+    let var =
+        ftle_field(&steady, &one, &opts(0.0, 15.0, RK4_FINE, GradientRoute::Variational)).unwrap();
     let aux = ftle_field(
         &steady,
         &one,
-        &opts(
-            0.0,
-            15.0,
-            RK4_FINE,
-            GradientRoute::Auxiliary { offset: 1e-6 },
-        ),
+        &opts(0.0, 15.0, RK4_FINE, GradientRoute::Auxiliary { offset: 1e-6 }),
     )
     .unwrap();
     let (sv, sa) = (var.at(0, 0) as f64, aux.at(0, 0) as f64);
     assert!((sv - 0.9408).abs() < 1e-4, "variational {sv}");
     assert!(sa < sv - 0.02, "auxiliary {sa} should under-read {sv}");
-    assert!(
-        aux.det_deviation[0] > 0.1,
-        "det deviation {}",
-        aux.det_deviation[0]
-    );
-    assert!(
-        var.det_deviation[0] < 1e-3,
-        "det deviation {}",
-        var.det_deviation[0]
-    );
+    assert!(aux.det_deviation[0] > 0.1, "det deviation {}", aux.det_deviation[0]);
+    assert!(var.det_deviation[0] < 1e-3, "det deviation {}", var.det_deviation[0]);
 }
 
 /// Exit-time map [D]: on the saddle u = (x, −y) cut to [−1, 1]², a seed at x₀ > 0 leaves
@@ -349,25 +235,9 @@ fn routes_agree_and_differ_as_expected() {
 /// τ = |T| and flag Full; σ over τ is still λ. Seeds outside the window are "masked".
 #[test]
 fn exit_time_map_on_a_windowed_saddle() {
-    let f = Windowed {
-        inner: LinearSaddle { lambda: 1.0 },
-        rect: square(1.0),
-    };
-    let grid = TracerGrid::new(
-        Rect {
-            x0: 0.05,
-            x1: 1.2,
-            y0: -0.5,
-            y1: 0.5,
-        },
-        24,
-        3,
-    )
-    .unwrap();
-    for route in [
-        GradientRoute::Variational,
-        GradientRoute::Auxiliary { offset: 1e-6 },
-    ] {
+    let f = Windowed { inner: LinearSaddle { lambda: 1.0 }, rect: square(1.0) };
+    let grid = TracerGrid::new(Rect { x0: 0.05, x1: 1.2, y0: -0.5, y1: 0.5 }, 24, 3).unwrap();
+    for route in [GradientRoute::Variational, GradientRoute::Auxiliary { offset: 1e-6 }] {
         let r = ftle_field(&f, &grid, &opts(0.0, 2.0, RK4_FINE, route)).unwrap();
         for j in 0..3 {
             for i in 0..grid.nx() {
@@ -378,11 +248,7 @@ fn exit_time_map_on_a_windowed_saddle() {
                     continue;
                 }
                 let tau = (1.0 / x0).ln().min(2.0);
-                let tol = if route == GradientRoute::Variational {
-                    1e-5
-                } else {
-                    1e-4
-                };
+                let tol = if route == GradientRoute::Variational { 1e-5 } else { 1e-4 };
                 assert!(
                     (r.tau[n] as f64 - tau).abs() < tol,
                     "{route:?} x0 {x0}: τ {} vs {tau}",
@@ -399,11 +265,7 @@ fn exit_time_map_on_a_windowed_saddle() {
                 };
                 assert_eq!(r.flag[n], want_flag, "x0 {x0} τ {tau}");
                 if tau > 1e-3 {
-                    assert!(
-                        (r.ftle[n] as f64 - 1.0).abs() < 1e-4,
-                        "x0 {x0}: σ {}",
-                        r.ftle[n]
-                    );
+                    assert!((r.ftle[n] as f64 - 1.0).abs() < 1e-4, "x0 {x0}: σ {}", r.ftle[n]);
                 }
             }
         }
@@ -447,11 +309,7 @@ fn masked_seeds_and_bodies() {
         assert_eq!(r.flag[n], FtleFlag::Masked, "{policy:?}");
         // Node (0.0, −0.6) rotates into the block within a quarter turn (π/2 > τ).
         let m = 2 * 17 + 8;
-        assert!(
-            r.tau[m] < 1.6 && r.tau[m] > 0.9,
-            "{policy:?}: τ = {}",
-            r.tau[m]
-        );
+        assert!(r.tau[m] < 1.6 && r.tau[m] > 0.9, "{policy:?}: τ = {}", r.tau[m]);
         assert!(f.velocity(grid.node(8, 2), 0.0).is_some());
     }
 }

@@ -27,10 +27,7 @@ fn rk4_observed_order_is_four() {
     };
     for h in [0.05, 0.025] {
         let order = (err(h) / err(h / 2.0)).log2();
-        assert!(
-            (order - 4.0).abs() < 0.15,
-            "h = {h}: observed order {order}"
-        );
+        assert!((order - 4.0).abs() < 0.15, "h = {h}: observed order {order}");
     }
     // Same on a trajectory of solid-body rotation (exact solution a rotation [D]).
     let rot = SolidBodyRotation { omega: 1.0 };
@@ -39,10 +36,7 @@ fn rk4_observed_order_is_four() {
         (out.y[0] - 3.0f64.cos()).hypot(out.y[1] - 3.0f64.sin())
     };
     let order = (err(0.05) / err(0.025)).log2();
-    assert!(
-        (order - 4.0).abs() < 0.15,
-        "rotation: observed order {order}"
-    );
+    assert!((order - 4.0).abs() < 0.15, "rotation: observed order {order}");
 }
 
 /// The adaptive integrator honours its tolerance: the global error in units of the
@@ -52,11 +46,7 @@ fn rk4_observed_order_is_four() {
 #[test]
 fn dopri_honours_tolerance_both_directions() {
     for &rtol in &[1e-4, 1e-6, 1e-8, 1e-10] {
-        let o = DopriOptions {
-            rtol,
-            atol: rtol * 1e-3,
-            max_steps: 100_000,
-        };
+        let o = DopriOptions { rtol, atol: rtol * 1e-3, max_steps: 100_000 };
         let out = integrate_dopri(&Gauss, [1.0], 0.0, 2.0, &o);
         assert_eq!(out.stop, Stop::Complete);
         assert_eq!(out.t, 2.0);
@@ -70,11 +60,7 @@ fn dopri_honours_tolerance_both_directions() {
     }
     // Tighter tolerance costs more evaluations (effort grows, as it must).
     let calls = |rtol: f64| {
-        let o = DopriOptions {
-            rtol,
-            atol: 1e-12,
-            max_steps: 100_000,
-        };
+        let o = DopriOptions { rtol, atol: 1e-12, max_steps: 100_000 };
         integrate_dopri(&Gauss, [1.0], 0.0, 2.0, &o).rhs_calls
     };
     assert!(calls(1e-10) > calls(1e-5));
@@ -95,10 +81,7 @@ fn dopri_error_estimate_on_exponential_growth() {
         let y1 = 1.0 + h * (0..7).map(|i| DOPRI54.b[i] * k[i]).sum::<f64>();
         let est = (h * (0..7).map(|i| DOPRI54.e[i] * k[i]).sum::<f64>()).abs();
         let truth = (y1 - h.exp()).abs();
-        assert!(
-            est >= truth,
-            "h = {h}: estimate {est} below true error {truth}"
-        );
+        assert!(est >= truth, "h = {h}: estimate {est} below true error {truth}");
     }
     struct Grow;
     impl System<1> for Grow {
@@ -106,11 +89,7 @@ fn dopri_error_estimate_on_exponential_growth() {
             Some([y[0]])
         }
     }
-    let o = DopriOptions {
-        rtol: 1e-3,
-        atol: 1e-6,
-        max_steps: 1000,
-    };
+    let o = DopriOptions { rtol: 1e-3, atol: 1e-6, max_steps: 1000 };
     let out = integrate_dopri(&Grow, [1.0], 0.0, 1.0, &o);
     let e = (out.y[0] - 1f64.exp()).abs() / (o.atol + o.rtol * 1f64.exp());
     assert!(e < 5.0, "{e}");
@@ -123,12 +102,7 @@ fn dopri_error_estimate_on_exponential_growth() {
 fn exit_time_is_located() {
     let f = Windowed {
         inner: LinearSaddle { lambda: 1.0 },
-        rect: Rect {
-            x0: -1.0,
-            x1: 1.0,
-            y0: -1.0,
-            y1: 1.0,
-        },
+        rect: Rect { x0: -1.0, x1: 1.0, y0: -1.0, y1: 1.0 },
     };
     let rk = integrate_rk4(&Tracer(&f), [0.5, 0.2], 0.0, 3.0, 0.01);
     assert_eq!(rk.stop, Stop::Exited);
@@ -143,9 +117,5 @@ fn exit_time_is_located() {
     // Backward in time y = 0.2 e^{|t|} grows and leaves y = 1 at |t| = ln 5 [D].
     let back = integrate_rk4(&Tracer(&f), [0.5, 0.2], 0.0, -3.0, 0.01);
     assert_eq!(back.stop, Stop::Exited);
-    assert!(
-        (back.t + 5f64.ln()).abs() < 1e-5,
-        "backward exit at {}",
-        back.t
-    );
+    assert!((back.t + 5f64.ln()).abs() < 1e-5, "backward exit at {}", back.t);
 }

@@ -116,11 +116,7 @@ fn cubic_exact_on_quadratics() {
 /// inside a cell; common practice derivative check).
 #[test]
 fn gradient_is_the_interpolants_derivative() {
-    let (x, y, t) = (
-        linspace(0.0, 2.0, 13),
-        linspace(0.0, 1.0, 8),
-        linspace(0.0, 3.0, 7),
-    );
+    let (x, y, t) = (linspace(0.0, 2.0, 13), linspace(0.0, 1.0, 8), linspace(0.0, 3.0, 7));
     let fu = |x: f64, y: f64, t: f64| (1.3 * x + 0.4 * t).sin() * (2.0 * y).cos();
     let fv = |x: f64, y: f64, t: f64| (0.7 * x * y - 0.3 * t).cos();
     let s = series(&x, &y, &t, fu, fv, None);
@@ -158,19 +154,8 @@ fn gradient_is_the_interpolants_derivative() {
 /// common practice). Snapshot times themselves are reproduced exactly.
 #[test]
 fn time_interpolation_exactness() {
-    let (x, y, t) = (
-        linspace(0.0, 2.0, 5),
-        linspace(0.0, 1.0, 4),
-        linspace(0.0, 5.0, 11),
-    );
-    let s = series(
-        &x,
-        &y,
-        &t,
-        |x, _, t| x + 0.5 * t,
-        |_, _, t| 0.2 * t * t - t,
-        None,
-    );
+    let (x, y, t) = (linspace(0.0, 2.0, 5), linspace(0.0, 1.0, 4), linspace(0.0, 5.0, 11));
+    let s = series(&x, &y, &t, |x, _, t| x + 0.5 * t, |_, _, t| 0.2 * t * t - t, None);
     let lin = GriddedField::new(&s, SpaceInterp::Bilinear, TimeInterp::Linear);
     let her = GriddedField::new(&s, SpaceInterp::Bilinear, TimeInterp::Hermite);
     for &tt in &[0.75, 1.3, 2.5, 3.9, 4.4] {
@@ -178,11 +163,7 @@ fn time_interpolation_exactness() {
         let u = lin.velocity(p, tt).unwrap();
         assert!((u[0] - (0.7 + 0.5 * tt)).abs() < 1e-6);
         let w = her.velocity(p, tt).unwrap();
-        assert!(
-            (w[1] - (0.2 * tt * tt - tt)).abs() < 1e-6,
-            "t = {tt}: {}",
-            w[1]
-        );
+        assert!((w[1] - (0.2 * tt * tt - tt)).abs() < 1e-6, "t = {tt}: {}", w[1]);
     }
     assert!(lin.velocity([0.5, 0.5], 5.01).is_none());
     assert!(lin.velocity([0.5, 0.5], -0.01).is_none());
@@ -203,10 +184,7 @@ fn masks_and_fallback() {
     let bl = GriddedField::new(&s, SpaceInterp::Bilinear, TimeInterp::Linear);
     let cu = GriddedField::new(&s, SpaceInterp::Cubic, TimeInterp::Linear);
     for p in [[0.9, 0.45], [1.1, 0.45], [0.9, 0.55], [1.1, 0.55]] {
-        assert!(
-            bl.velocity(p, 0.0).is_none(),
-            "{p:?} touches the masked node"
-        );
+        assert!(bl.velocity(p, 0.0).is_none(), "{p:?} touches the masked node");
         assert!(cu.velocity(p, 0.0).is_none());
     }
     // Next ring: bilinear defined, cubic falls back to it.
@@ -227,11 +205,7 @@ fn masks_and_fallback() {
 /// that snapshot is in the time stencil (DESIGN: treat a gap like a masked cell).
 #[test]
 fn gaps_act_like_masks_in_their_snapshot() {
-    let (x, y, t) = (
-        linspace(0.0, 2.0, 5),
-        linspace(0.0, 1.0, 5),
-        linspace(0.0, 4.0, 5),
-    );
+    let (x, y, t) = (linspace(0.0, 2.0, 5), linspace(0.0, 1.0, 5), linspace(0.0, 4.0, 5));
     let n = 25;
     let mut u = vec![1.0f32; n * 5];
     u[2 * n + 2 * 5 + 2] = f32::NAN; // snapshot 2, node (1.0, 0.5)

@@ -96,21 +96,14 @@ fn bad_row_ranges_and_options_are_errors() {
     let e = ftle_rows(&g, &grid, &bad, 0, 5).unwrap_err().to_string();
     assert!(e.contains("RK4 time step"), "{e}");
     // Data cover t ∈ [0, 10]: a 15-unit horizon does not fit.
-    let s = sample_series(
-        &g,
-        &linspace(0.0, 2.0, 5),
-        &linspace(0.0, 1.0, 5),
-        &linspace(0.0, 10.0, 3),
-    )
-    .unwrap();
+    let s =
+        sample_series(&g, &linspace(0.0, 2.0, 5), &linspace(0.0, 1.0, 5), &linspace(0.0, 10.0, 3))
+            .unwrap();
     let f = GriddedField::new(&s, SpaceInterp::Bilinear, TimeInterp::Linear);
     bad = o;
     bad.advect.horizon = 15.0;
     let e = ftle_rows(&f, &grid, &bad, 0, 5).unwrap_err().to_string();
-    assert!(
-        e.contains("t = 0 to t = 15") && e.contains("t = 0 to t = 10"),
-        "{e}"
-    );
+    assert!(e.contains("t = 0 to t = 15") && e.contains("t = 0 to t = 10"), "{e}");
     bad.advect.horizon = -1.0;
     assert!(ftle_rows(&f, &grid, &bad, 0, 5).is_err());
     let aux = options(GradientRoute::Auxiliary { offset: 0.0 });

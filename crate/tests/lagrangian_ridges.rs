@@ -26,36 +26,21 @@ fn steady_gyre_forward_ridge_is_x_equals_one() {
     };
     let map = ftle_field(&f, &grid, &o).unwrap();
     let ridges = extract_ridges(&map, &RidgeOptions::default());
-    let longest = ridges
-        .iter()
-        .max_by(|a, b| a.length().total_cmp(&b.length()))
-        .expect("no ridge found");
+    let longest =
+        ridges.iter().max_by(|a, b| a.length().total_cmp(&b.length())).expect("no ridge found");
     let h = grid.x.step;
     for p in &longest.points {
         assert!((p[0] - 1.0).abs() <= h, "ridge point {p:?} off x = 1");
     }
-    let on_line = longest
-        .points
-        .iter()
-        .filter(|p| (p[0] - 1.0).abs() < 1e-9)
-        .count();
-    assert!(
-        on_line * 10 >= longest.points.len() * 8,
-        "{on_line} of {}",
-        longest.points.len()
-    );
-    let (ymin, ymax) = longest
-        .points
-        .iter()
-        .fold((f64::MAX, f64::MIN), |(a, b), p| (a.min(p[1]), b.max(p[1])));
+    let on_line = longest.points.iter().filter(|p| (p[0] - 1.0).abs() < 1e-9).count();
+    assert!(on_line * 10 >= longest.points.len() * 8, "{on_line} of {}", longest.points.len());
+    let (ymin, ymax) =
+        longest.points.iter().fold((f64::MAX, f64::MIN), |(a, b), p| (a.min(p[1]), b.max(p[1])));
     assert!(ymax - ymin > 0.6, "ridge spans y {ymin}..{ymax} only");
     // The other ridges of this map hug the gyre boundaries (tracers near the separatrix
     // spend a long time near the saddles); none rivals the x = 1 ridge in length.
-    let second = ridges
-        .iter()
-        .map(|r| r.length())
-        .filter(|&l| l < longest.length())
-        .fold(0.0, f64::max);
+    let second =
+        ridges.iter().map(|r| r.length()).filter(|&l| l < longest.length()).fold(0.0, f64::max);
     assert!(
         longest.length() > 0.7 && second < 0.3 * longest.length(),
         "longest {}, next {second}",

@@ -58,10 +58,7 @@ fn composition_error_against_direct_integration() {
                  evaluations {cost_c} vs {cost_d} direct",
                 grid.y.step
             );
-            assert!(
-                med < prev / 2.0,
-                "median error {med} did not fall (was {prev})"
-            );
+            assert!(med < prev / 2.0, "median error {med} did not fall (was {prev})");
             assert!(cost_c * 2 < cost_d);
             prev = med;
         }
@@ -73,36 +70,10 @@ fn composition_error_against_direct_integration() {
 fn composition_needs_a_whole_number_of_intervals() {
     let f = DoubleGyre::periodic();
     let grid = TracerGrid::new(DoubleGyre::domain(), 11, 6).unwrap();
-    let e = ftle_sequence(
-        &f,
-        &grid,
-        &options(2.5),
-        0.0,
-        1.0,
-        2,
-        SequenceMethod::Composition,
-    )
-    .unwrap_err()
-    .to_string();
+    let e = ftle_sequence(&f, &grid, &options(2.5), 0.0, 1.0, 2, SequenceMethod::Composition)
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("whole multiple"), "{e}");
-    assert!(ftle_sequence(
-        &f,
-        &grid,
-        &options(2.0),
-        0.0,
-        0.0,
-        2,
-        SequenceMethod::Direct
-    )
-    .is_err());
-    assert!(ftle_sequence(
-        &f,
-        &grid,
-        &options(2.0),
-        0.0,
-        1.0,
-        0,
-        SequenceMethod::Direct
-    )
-    .is_err());
+    assert!(ftle_sequence(&f, &grid, &options(2.0), 0.0, 0.0, 2, SequenceMethod::Direct).is_err());
+    assert!(ftle_sequence(&f, &grid, &options(2.0), 0.0, 1.0, 0, SequenceMethod::Direct).is_err());
 }

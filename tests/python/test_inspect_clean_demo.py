@@ -64,3 +64,17 @@ def test_clean_demo_replaces_about_the_seeded_spurious_fraction(cli, demo, tmp_p
         # Unflagged vectors are left exactly as they were.
         changed = (z["u"] != demo["u"]) | (z["v"] != demo["v"])
         assert changed[:, ~demo["mask"]].mean() < 0.05
+
+
+def test_convert_to_npy_set_reads_in_numpy_and_back(cli, demo, tmp_path):
+    """A folder of .npy files, one per canonical array: numpy reads each (the reference),
+    and sillage reads the set back to the same summary."""
+    folder = tmp_path / "arrays"
+    cli.run("convert", DEMO, "--out", folder)
+    for name in ("x", "y", "t", "u", "v", "mask"):
+        arr = np.load(folder / f"{name}.npy")
+        np.testing.assert_array_equal(arr, demo[name])
+    again = cli.inspect(*sorted(folder.glob("*.npy")))
+    first = cli.inspect(DEMO)
+    for key in ("nx", "ny", "nt", "masked_cells", "gaps", "speed_max"):
+        assert again[key] == first[key], key

@@ -19,17 +19,8 @@ use super::{IoError, ReadOptions};
 use crate::field::{LengthUnit, Series, SeriesParts, TimeUnit, Units, GRID_TOLERANCE};
 
 /// The canonical array names, lower case.
-pub(crate) const NAMES: [&str; 9] = [
-    "x",
-    "y",
-    "t",
-    "u",
-    "v",
-    "mask",
-    "gaps",
-    "length_unit",
-    "time_unit",
-];
+pub(crate) const NAMES: [&str; 9] =
+    ["x", "y", "t", "u", "v", "mask", "gaps", "length_unit", "time_unit"];
 
 /// Arrays found in a file, by canonical name, with the list of everything that was there.
 pub(crate) struct Found {
@@ -41,9 +32,7 @@ pub(crate) struct Found {
 
 impl Found {
     fn get(&self, name: &str) -> Option<&NpyArray> {
-        self.arrays
-            .iter()
-            .find(|a| a.name.eq_ignore_ascii_case(name))
+        self.arrays.iter().find(|a| a.name.eq_ignore_ascii_case(name))
     }
     fn require(&self, name: &str) -> Result<&NpyArray, IoError> {
         self.get(name).ok_or_else(|| IoError::MissingArray {
@@ -57,10 +46,7 @@ impl Found {
         })
     }
     fn layout(&self, reason: String) -> IoError {
-        IoError::Layout {
-            file: self.file.clone(),
-            reason,
-        }
+        IoError::Layout { file: self.file.clone(), reason }
     }
 }
 
@@ -88,13 +74,7 @@ pub(crate) fn check_unique(file: &str, names: &[String]) -> Result<(), IoError> 
 fn shape_str(s: &[usize]) -> String {
     match s.len() {
         1 => format!("({},)", s[0]),
-        _ => format!(
-            "({})",
-            s.iter()
-                .map(|d| d.to_string())
-                .collect::<Vec<_>>()
-                .join(", ")
-        ),
+        _ => format!("({})", s.iter().map(|d| d.to_string()).collect::<Vec<_>>().join(", ")),
     }
 }
 
@@ -105,21 +85,13 @@ fn squeezed(shape: &[usize]) -> Vec<usize> {
 
 fn numeric_f64(f: &Found, a: &NpyArray) -> Result<Vec<f64>, IoError> {
     a.to_f64().ok_or_else(|| {
-        f.layout(format!(
-            "array '{}' must hold numbers, not {} values",
-            a.name,
-            a.data.type_name()
-        ))
+        f.layout(format!("array '{}' must hold numbers, not {} values", a.name, a.data.type_name()))
     })
 }
 
 fn numeric_f32(f: &Found, a: &NpyArray) -> Result<Vec<f32>, IoError> {
     a.to_f32().ok_or_else(|| {
-        f.layout(format!(
-            "array '{}' must hold numbers, not {} values",
-            a.name,
-            a.data.type_name()
-        ))
+        f.layout(format!("array '{}' must hold numbers, not {} values", a.name, a.data.type_name()))
     })
 }
 
@@ -136,22 +108,14 @@ fn flags(f: &Found, a: &NpyArray) -> Result<Vec<bool>, IoError> {
 /// A coordinate array as found: a 1-D axis or a 2-D meshgrid still to be reduced.
 enum Coord {
     Axis(Vec<f64>),
-    Mesh {
-        rows: usize,
-        cols: usize,
-        values: Vec<f64>,
-    },
+    Mesh { rows: usize, cols: usize, values: Vec<f64> },
 }
 
 fn coord(f: &Found, name: &str) -> Result<Coord, IoError> {
     let a = f.require(name)?;
     let values = numeric_f64(f, a)?;
     if a.shape.len() == 2 && squeezed(&a.shape).len() == 2 {
-        return Ok(Coord::Mesh {
-            rows: a.shape[0],
-            cols: a.shape[1],
-            values,
-        });
+        return Ok(Coord::Mesh { rows: a.shape[0], cols: a.shape[1], values });
     }
     if squeezed(&a.shape).len() > 1 {
         return Err(f.layout(format!(
@@ -179,19 +143,11 @@ fn mesh_axis(
         (0..rows).map(|j| at(j, 0)).collect()
     };
     let n = line.len();
-    let step = if n > 1 {
-        ((line[n - 1] - line[0]) / (n - 1) as f64).abs()
-    } else {
-        0.0
-    };
+    let step = if n > 1 { ((line[n - 1] - line[0]) / (n - 1) as f64).abs() } else { 0.0 };
     let tol = GRID_TOLERANCE * step;
     for j in 0..rows {
         for i in 0..cols {
-            let reference = if constant_along_rows {
-                line[i]
-            } else {
-                line[j]
-            };
+            let reference = if constant_along_rows { line[i] } else { line[j] };
             if (at(j, i) - reference).abs() > tol || !at(j, i).is_finite() {
                 return None;
             }
@@ -236,9 +192,7 @@ pub(crate) fn times_from_options(
     match opts.dt {
         Some(dt) => Ok((0..nt).map(|k| opts.t_start + k as f64 * dt).collect()),
         None if nt == 1 => Ok(vec![opts.t_start]),
-        None => Err(IoError::NeedDt {
-            what: format!("{what} holds {nt} snapshots and no times"),
-        }),
+        None => Err(IoError::NeedDt { what: format!("{what} holds {nt} snapshots and no times") }),
     }
 }
 
@@ -293,16 +247,8 @@ pub(crate) fn series_from_found(f: &Found, opts: &ReadOptions) -> Result<Series,
                 }
             }
             (
-                Coord::Mesh {
-                    rows: xr,
-                    cols: xcn,
-                    values: xv,
-                },
-                Coord::Mesh {
-                    rows: yr,
-                    cols: ycn,
-                    values: yv,
-                },
+                Coord::Mesh { rows: xr, cols: xcn, values: xv },
+                Coord::Mesh { rows: yr, cols: ycn, values: yv },
             ) => {
                 if (xr, xcn) != (a, b) || (yr, ycn) != (a, b) {
                     return Err(f.layout(format!(
@@ -391,29 +337,20 @@ pub(crate) fn series_from_found(f: &Found, opts: &ReadOptions) -> Result<Series,
 
     let length = match (opts.length_unit, unit_string(f, "length_unit")?) {
         (Some(l), _) => l,
-        (None, Some(s)) => s
-            .parse::<LengthUnit>()
-            .map_err(|e| f.layout(format!("array 'length_unit': {e}")))?,
+        (None, Some(s)) => {
+            s.parse::<LengthUnit>().map_err(|e| f.layout(format!("array 'length_unit': {e}")))?
+        }
         (None, None) => LengthUnit::M,
     };
     let time = match (opts.time_unit, unit_string(f, "time_unit")?) {
         (Some(t), _) => t,
-        (None, Some(s)) => s
-            .parse::<TimeUnit>()
-            .map_err(|e| f.layout(format!("array 'time_unit': {e}")))?,
+        (None, Some(s)) => {
+            s.parse::<TimeUnit>().map_err(|e| f.layout(format!("array 'time_unit': {e}")))?
+        }
         (None, None) => TimeUnit::S,
     };
-    let parts = SeriesParts {
-        x,
-        y,
-        t,
-        u,
-        v,
-        mask,
-        gaps,
-        nan_is_gap: true,
-        units: Units { length, time },
-    };
+    let parts =
+        SeriesParts { x, y, t, u, v, mask, gaps, nan_is_gap: true, units: Units { length, time } };
     Series::from_parts(parts).map_err(|e| IoError::field(format!("'{}'", f.file), e))
 }
 
@@ -421,16 +358,8 @@ pub(crate) fn series_from_found(f: &Found, opts: &ReadOptions) -> Result<Series,
 pub(crate) fn series_arrays(s: &Series) -> Vec<NpyArray> {
     let (nt, ny, nx) = (s.nt(), s.ny(), s.nx());
     let units = s.units();
-    let length = if units.length == LengthUnit::Unitless {
-        "unitless"
-    } else {
-        "m"
-    };
-    let time = if units.time == TimeUnit::Unitless {
-        "unitless"
-    } else {
-        "s"
-    };
+    let length = if units.length == LengthUnit::Unitless { "unitless" } else { "m" };
+    let time = if units.time == TimeUnit::Unitless { "unitless" } else { "s" };
     let mut arrays = vec![
         NpyArray::new("x", vec![nx], NpyData::F64(s.grid().x.coords())),
         NpyArray::new("y", vec![ny], NpyData::F64(s.grid().y.coords())),
@@ -442,11 +371,7 @@ pub(crate) fn series_arrays(s: &Series) -> Vec<NpyArray> {
         NpyArray::new("time_unit", vec![], NpyData::Str(time.into())),
     ];
     if let Some(g) = s.gaps() {
-        arrays.push(NpyArray::new(
-            "gaps",
-            vec![nt, ny, nx],
-            NpyData::Bool(g.to_vec()),
-        ));
+        arrays.push(NpyArray::new("gaps", vec![nt, ny, nx], NpyData::Bool(g.to_vec())));
     }
     arrays
 }

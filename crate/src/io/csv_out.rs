@@ -38,11 +38,7 @@ fn table(series: &Series, k: usize, with_time: bool) -> String {
         series.nt()
     );
     let units = series.units();
-    let (l, t, vel) = (
-        units.length.symbol(),
-        units.time.symbol(),
-        units.velocity_label(),
-    );
+    let (l, t, vel) = (units.length.symbol(), units.time.symbol(), units.velocity_label());
     let grid = series.grid();
     let (u, v, mask) = (series.u_at(k), series.v_at(k), series.mask());
     let gaps = series.gaps_at(k);

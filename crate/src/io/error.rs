@@ -13,46 +13,23 @@ pub enum IoError {
     #[error("'{file}' is empty (0 bytes of data)")]
     EmptyFile { file: String },
     #[error("'{file}': array '{array}': {reason}")]
-    Npy {
-        file: String,
-        array: String,
-        reason: String,
-    },
+    Npy { file: String, array: String, reason: String },
     #[error("'{file}' is not a readable .npz (zip) archive: {reason}")]
     Zip { file: String, reason: String },
     #[error("'{file}' has no array '{name}' (case-insensitive); the arrays found are: {found}")]
-    MissingArray {
-        file: String,
-        name: String,
-        found: String,
-    },
+    MissingArray { file: String, name: String, found: String },
     #[error("'{file}': {reason}")]
     Layout { file: String, reason: String },
     #[error("'{file}' line {line}: {reason}")]
-    Line {
-        file: String,
-        line: usize,
-        reason: String,
-    },
+    Line { file: String, line: usize, reason: String },
     #[error("'{file}' has no column for {column}; the columns found are: {found}")]
-    MissingColumn {
-        file: String,
-        column: String,
-        found: String,
-    },
+    MissingColumn { file: String, column: String, found: String },
     #[error("file '{file}' has {rows} rows, the others {others}")]
-    RowCount {
-        file: String,
-        rows: String,
-        others: String,
-    },
+    RowCount { file: String, rows: String, others: String },
     #[error("{what}: the time between snapshots is not known; give Δt (the dt option)")]
     NeedDt { what: String },
     #[error("option {option}: {reason}")]
-    BadOption {
-        option: &'static str,
-        reason: String,
-    },
+    BadOption { option: &'static str, reason: String },
     #[error("{context}: {source}")]
     Field {
         context: String,
@@ -66,10 +43,7 @@ pub enum IoError {
 impl IoError {
     /// Wraps a data-model error with the name of what was being read.
     pub(crate) fn field(context: impl Into<String>, source: FieldError) -> IoError {
-        IoError::Field {
-            context: context.into(),
-            source,
-        }
+        IoError::Field { context: context.into(), source }
     }
 }
 

@@ -59,12 +59,7 @@ pub struct ReadOptions {
 
 impl Default for ReadOptions {
     fn default() -> Self {
-        ReadOptions {
-            length_unit: None,
-            time_unit: None,
-            dt: None,
-            t_start: 0.0,
-        }
+        ReadOptions { length_unit: None, time_unit: None, dt: None, t_start: 0.0 }
     }
 }
 
@@ -84,10 +79,7 @@ impl ReadOptions {
         if !self.t_start.is_finite() {
             return Err(IoError::BadOption {
                 option: "t_start",
-                reason: format!(
-                    "the start time must be a finite number, not {}",
-                    self.t_start
-                ),
+                reason: format!("the start time must be a finite number, not {}", self.t_start),
             });
         }
         Ok(())
@@ -104,10 +96,7 @@ pub struct NamedBytes {
 
 impl NamedBytes {
     pub fn new(name: impl Into<String>, bytes: Vec<u8>) -> NamedBytes {
-        NamedBytes {
-            name: name.into(),
-            bytes,
-        }
+        NamedBytes { name: name.into(), bytes }
     }
 }
 
@@ -146,9 +135,7 @@ pub(crate) fn extension_supported(name: &str) -> bool {
 /// Lower-case extension of a name, if any.
 fn extension(name: &str) -> Option<String> {
     let base = base_name(name);
-    base.rfind('.')
-        .filter(|&i| i > 0)
-        .map(|i| base[i + 1..].to_ascii_lowercase())
+    base.rfind('.').filter(|&i| i > 0).map(|i| base[i + 1..].to_ascii_lowercase())
 }
 
 /// Whether the first few kilobytes are UTF-8 text (a character cut at the end of the sample
@@ -234,11 +221,7 @@ fn read_npz_series(file: &NamedBytes, opts: &ReadOptions) -> Result<Series, IoEr
             arrays.push(npz.read(k)?);
         }
     }
-    let found = Found {
-        file: file.name.clone(),
-        arrays,
-        all_names,
-    };
+    let found = Found { file: file.name.clone(), arrays, all_names };
     series_from_found(&found, opts)
 }
 
@@ -262,9 +245,7 @@ fn read_npy_set(files: &[NamedBytes], opts: &ReadOptions) -> Result<Series, IoEr
             continue;
         }
         if f.bytes.is_empty() {
-            return Err(IoError::EmptyFile {
-                file: f.name.clone(),
-            });
+            return Err(IoError::EmptyFile { file: f.name.clone() });
         }
         let a = npy::parse_npy(stem, &f.bytes).map_err(|reason| IoError::Npy {
             file: f.name.clone(),
@@ -273,11 +254,7 @@ fn read_npy_set(files: &[NamedBytes], opts: &ReadOptions) -> Result<Series, IoEr
         })?;
         arrays.push(a);
     }
-    let found = Found {
-        file: label.into(),
-        arrays,
-        all_names: stems,
-    };
+    let found = Found { file: label.into(), arrays, all_names: stems };
     series_from_found(&found, opts)
 }
 
@@ -286,6 +263,16 @@ fn read_npy_set(files: &[NamedBytes], opts: &ReadOptions) -> Result<Series, IoEr
 /// `'unitless'`), and `gaps` (bool, `(nt, ny, nx)`) if any vector is missing.
 pub fn write_npz(series: &Series) -> Vec<u8> {
     write_arrays_npz(&canonical::series_arrays(series))
+}
+
+/// The series as a set of `.npy` files (`x.npy`, `y.npy`, `t.npy`, `u.npy`, `v.npy`,
+/// `mask.npy`, the unit strings, and `gaps.npy` if any vector is missing): the same arrays
+/// as [`write_npz`], one file each, readable back by [`read_series`] as a set.
+pub fn write_npy_set(series: &Series) -> Vec<(String, Vec<u8>)> {
+    canonical::series_arrays(series)
+        .iter()
+        .map(|a| (format!("{}.npy", a.name), a.to_npy_bytes()))
+        .collect()
 }
 
 #[cfg(test)]

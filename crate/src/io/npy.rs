@@ -83,11 +83,7 @@ impl NpyArray {
             "NpyArray::new: shape {shape:?} holds {n} elements but the data has {}",
             data.len()
         );
-        NpyArray {
-            name: name.into(),
-            shape,
-            data,
-        }
+        NpyArray { name: name.into(), shape, data }
     }
 
     /// Number of elements (product of the shape; 1 for a 0-d array).
@@ -169,13 +165,7 @@ fn parse_dtype(descr: &str) -> Result<Dtype, String> {
              integers, booleans or a single string"
         ))
     };
-    let dtype = |kind, size| {
-        Ok(Dtype {
-            kind,
-            size,
-            big_endian,
-        })
-    };
+    let dtype = |kind, size| Ok(Dtype { kind, size, big_endian });
     match (code, num) {
         ('f', Some(s @ (2 | 4 | 8))) => dtype(Kind::Float, s),
         ('i', Some(s @ (1 | 2 | 4 | 8))) => dtype(Kind::Int, s),
@@ -229,35 +219,25 @@ fn decode(dt: Dtype, raw: &[u8], count: usize) -> Result<NpyData, String> {
     let be = dt.big_endian;
     Ok(match (dt.kind, dt.size) {
         (Kind::Float, 2) => NpyData::F32(
-            elements::<2>(raw, be)
-                .map(|b| half_to_f32(u16::from_le_bytes(b)))
-                .collect(),
+            elements::<2>(raw, be).map(|b| half_to_f32(u16::from_le_bytes(b))).collect(),
         ),
         (Kind::Float, 4) => NpyData::F32(elements::<4>(raw, be).map(f32::from_le_bytes).collect()),
         (Kind::Float, _) => NpyData::F64(elements::<8>(raw, be).map(f64::from_le_bytes).collect()),
         (Kind::Bool, _) => NpyData::Bool(raw.iter().map(|&b| b != 0).collect()),
         (Kind::UInt, 1) => NpyData::U8(raw.to_vec()),
         (Kind::Int, 1) => NpyData::I64(raw.iter().map(|&b| b as i8 as i64).collect()),
-        (Kind::Int, 2) => NpyData::I64(
-            elements::<2>(raw, be)
-                .map(|b| i16::from_le_bytes(b) as i64)
-                .collect(),
-        ),
-        (Kind::UInt, 2) => NpyData::I64(
-            elements::<2>(raw, be)
-                .map(|b| u16::from_le_bytes(b) as i64)
-                .collect(),
-        ),
-        (Kind::Int, 4) => NpyData::I64(
-            elements::<4>(raw, be)
-                .map(|b| i32::from_le_bytes(b) as i64)
-                .collect(),
-        ),
-        (Kind::UInt, 4) => NpyData::I64(
-            elements::<4>(raw, be)
-                .map(|b| u32::from_le_bytes(b) as i64)
-                .collect(),
-        ),
+        (Kind::Int, 2) => {
+            NpyData::I64(elements::<2>(raw, be).map(|b| i16::from_le_bytes(b) as i64).collect())
+        }
+        (Kind::UInt, 2) => {
+            NpyData::I64(elements::<2>(raw, be).map(|b| u16::from_le_bytes(b) as i64).collect())
+        }
+        (Kind::Int, 4) => {
+            NpyData::I64(elements::<4>(raw, be).map(|b| i32::from_le_bytes(b) as i64).collect())
+        }
+        (Kind::UInt, 4) => {
+            NpyData::I64(elements::<4>(raw, be).map(|b| u32::from_le_bytes(b) as i64).collect())
+        }
         (Kind::Int, _) => NpyData::I64(elements::<8>(raw, be).map(i64::from_le_bytes).collect()),
         (Kind::UInt, _) => NpyData::I64(
             elements::<8>(raw, be)
@@ -351,10 +331,7 @@ pub(crate) fn parse_npy(name: &str, bytes: &[u8]) -> Result<NpyArray, String> {
         });
     }
     if bytes.len() < 10 {
-        return Err(format!(
-            "truncated: {} bytes, too short for the .npy preamble",
-            bytes.len()
-        ));
+        return Err(format!("truncated: {} bytes, too short for the .npy preamble", bytes.len()));
     }
     let major = bytes[6];
     let (len_bytes, utf8) = match major {
@@ -377,10 +354,8 @@ pub(crate) fn parse_npy(name: &str, bytes: &[u8]) -> Result<NpyArray, String> {
     } else {
         u32::from_le_bytes([bytes[8], bytes[9], bytes[10], bytes[11]]) as usize
     };
-    let data_start = start
-        .checked_add(header_len)
-        .filter(|&e| e <= bytes.len())
-        .ok_or_else(|| {
+    let data_start =
+        start.checked_add(header_len).filter(|&e| e <= bytes.len()).ok_or_else(|| {
             format!(
                 "truncated: the header should be {header_len} bytes but the file ends after {}",
                 bytes.len().saturating_sub(start)
@@ -422,30 +397,17 @@ pub(crate) fn parse_npy(name: &str, bytes: &[u8]) -> Result<NpyArray, String> {
     if header.fortran_order {
         data = reorder(data, &header.shape);
     }
-    Ok(NpyArray {
-        name: name.to_string(),
-        shape: header.shape,
-        data,
-    })
+    Ok(NpyArray { name: name.to_string(), shape: header.shape, data })
 }
 
 /// The `.npy` bytes of `a`: C order, little-endian.
 pub(crate) fn write_npy(a: &NpyArray) -> Vec<u8> {
     let (descr, body): (String, Vec<u8>) = match &a.data {
-        NpyData::F32(v) => (
-            "<f4".into(),
-            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
-        ),
-        NpyData::F64(v) => (
-            "<f8".into(),
-            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
-        ),
+        NpyData::F32(v) => ("<f4".into(), v.iter().flat_map(|x| x.to_le_bytes()).collect()),
+        NpyData::F64(v) => ("<f8".into(), v.iter().flat_map(|x| x.to_le_bytes()).collect()),
         NpyData::Bool(v) => ("|b1".into(), v.iter().map(|&b| b as u8).collect()),
         NpyData::U8(v) => ("|u1".into(), v.clone()),
-        NpyData::I64(v) => (
-            "<i8".into(),
-            v.iter().flat_map(|x| x.to_le_bytes()).collect(),
-        ),
+        NpyData::I64(v) => ("<i8".into(), v.iter().flat_map(|x| x.to_le_bytes()).collect()),
         NpyData::Str(s) => {
             // A zero-length Unicode dtype is not valid; an empty string is stored as '<U1'.
             let n = s.chars().count().max(1);
@@ -461,11 +423,8 @@ pub(crate) fn write_npy(a: &NpyArray) -> Vec<u8> {
     };
     let dict = format_header(&descr, &shape);
     // Version 1.0 stores the header length in 2 bytes; larger headers need version 2.0.
-    let (major, prefix) = if dict.len() + 1 + 10 <= u16::MAX as usize {
-        (1u8, 10usize)
-    } else {
-        (2u8, 12usize)
-    };
+    let (major, prefix) =
+        if dict.len() + 1 + 10 <= u16::MAX as usize { (1u8, 10usize) } else { (2u8, 12usize) };
     let total = (prefix + dict.len() + 1).div_ceil(ALIGN) * ALIGN;
     let header_len = total - prefix;
     let mut out = Vec::with_capacity(total + body.len());
@@ -508,17 +467,9 @@ mod tests {
     #[test]
     fn written_files_follow_the_spec_and_read_back() {
         let arrays = [
-            NpyArray::new(
-                "a",
-                vec![2, 3],
-                NpyData::F32(vec![1.0, 2.5, -3.0, 4.0, 5.0, 6.0]),
-            ),
+            NpyArray::new("a", vec![2, 3], NpyData::F32(vec![1.0, 2.5, -3.0, 4.0, 5.0, 6.0])),
             NpyArray::new("b", vec![3], NpyData::F64(vec![0.1, 1e-300, f64::MAX])),
-            NpyArray::new(
-                "c",
-                vec![2, 2],
-                NpyData::Bool(vec![true, false, false, true]),
-            ),
+            NpyArray::new("c", vec![2, 2], NpyData::Bool(vec![true, false, false, true])),
             NpyArray::new("d", vec![2], NpyData::U8(vec![0, 255])),
             NpyArray::new("e", vec![1, 2], NpyData::I64(vec![i64::MIN, 7])),
             NpyArray::new("f", vec![], NpyData::Str("µm".into())),
@@ -544,38 +495,22 @@ mod tests {
             ("<u2", vec![0xff, 0xff, 0x01, 0x00], vec![65535, 1]),
             (
                 "<i4",
-                (-7i32)
-                    .to_le_bytes()
-                    .into_iter()
-                    .chain(9i32.to_le_bytes())
-                    .collect(),
+                (-7i32).to_le_bytes().into_iter().chain(9i32.to_le_bytes()).collect(),
                 vec![-7, 9],
             ),
             (
                 ">u4",
-                4_000_000_000u32
-                    .to_be_bytes()
-                    .into_iter()
-                    .chain(1u32.to_be_bytes())
-                    .collect(),
+                4_000_000_000u32.to_be_bytes().into_iter().chain(1u32.to_be_bytes()).collect(),
                 vec![4_000_000_000, 1],
             ),
             (
                 "<i8",
-                (-3i64)
-                    .to_le_bytes()
-                    .into_iter()
-                    .chain(3i64.to_le_bytes())
-                    .collect(),
+                (-3i64).to_le_bytes().into_iter().chain(3i64.to_le_bytes()).collect(),
                 vec![-3, 3],
             ),
             (
                 ">u8",
-                10u64
-                    .to_be_bytes()
-                    .into_iter()
-                    .chain(11u64.to_be_bytes())
-                    .collect(),
+                10u64.to_be_bytes().into_iter().chain(11u64.to_be_bytes()).collect(),
                 vec![10, 11],
             ),
         ];
@@ -592,33 +527,23 @@ mod tests {
 
     #[test]
     fn reads_floats_in_both_orders_and_versions() {
-        let be: Vec<u8> = [1.5f32, -2.0]
-            .iter()
-            .flat_map(|x| x.to_be_bytes())
-            .collect();
+        let be: Vec<u8> = [1.5f32, -2.0].iter().flat_map(|x| x.to_be_bytes()).collect();
         for major in [1, 2, 3] {
             let a = parse_npy("f", &handmade(major, ">f4", false, "(2,)", &be)).unwrap();
             assert_eq!(a.data, NpyData::F32(vec![1.5, -2.0]));
         }
         // IEEE 754 binary16: 0x3c00 = 1.0, 0xc000 = -2.0, 0x0001 = 2^-24, 0x7c00 = +inf.
-        let half: Vec<u8> = [0x3c00u16, 0xc000, 0x0001, 0x7c00]
-            .iter()
-            .flat_map(|h| h.to_le_bytes())
-            .collect();
+        let half: Vec<u8> =
+            [0x3c00u16, 0xc000, 0x0001, 0x7c00].iter().flat_map(|h| h.to_le_bytes()).collect();
         let a = parse_npy("h", &handmade(1, "<f2", false, "(4,)", &half)).unwrap();
-        assert_eq!(
-            a.data,
-            NpyData::F32(vec![1.0, -2.0, 2f32.powi(-24), f32::INFINITY])
-        );
+        assert_eq!(a.data, NpyData::F32(vec![1.0, -2.0, 2f32.powi(-24), f32::INFINITY]));
     }
 
     #[test]
     fn fortran_order_is_reordered_to_c_order() {
         // The 2×3 matrix [[0,1,2],[3,4,5]] in column-major order is 0,3,1,4,2,5.
-        let body: Vec<u8> = [0.0f64, 3.0, 1.0, 4.0, 2.0, 5.0]
-            .iter()
-            .flat_map(|x| x.to_le_bytes())
-            .collect();
+        let body: Vec<u8> =
+            [0.0f64, 3.0, 1.0, 4.0, 2.0, 5.0].iter().flat_map(|x| x.to_le_bytes()).collect();
         let a = parse_npy("m", &handmade(1, "<f8", true, "(2, 3)", &body)).unwrap();
         assert_eq!(a.data, NpyData::F64(vec![0.0, 1.0, 2.0, 3.0, 4.0, 5.0]));
         // 3-D: element [i,j,k] of shape (2,3,4) sits at i + 2j + 6k in column-major order.
@@ -654,9 +579,7 @@ mod tests {
         assert!(parse_npy("a", b"").unwrap_err().contains("empty"));
         let mut extra = ok.clone();
         extra.extend_from_slice(&[0; 8]);
-        assert!(parse_npy("a", &extra)
-            .unwrap_err()
-            .contains("8 bytes follow"));
+        assert!(parse_npy("a", &extra).unwrap_err().contains("8 bytes follow"));
         let mut v9 = ok.clone();
         v9[6] = 9;
         assert!(parse_npy("a", &v9).unwrap_err().contains("version 9.0"));

@@ -118,10 +118,7 @@ impl<'a> Parser<'a> {
                     },
                 })
             }
-            Some(c) => Err(format!(
-                "unexpected '{}' at character {}",
-                c as char, self.pos
-            )),
+            Some(c) => Err(format!("unexpected '{}' at character {}", c as char, self.pos)),
             None => Err("the header ended where a value was expected".into()),
         }
     }
@@ -162,11 +159,9 @@ pub(crate) fn parse_header(text: &[u8]) -> Result<Header, String> {
     let descr = match descr {
         Some(Lit::Str(s)) => s,
         Some(Lit::Seq(_)) => {
-            return Err(
-                "the array has a structured dtype (record fields); only plain numeric, \
+            return Err("the array has a structured dtype (record fields); only plain numeric, \
                  boolean and string arrays can be read"
-                    .into(),
-            )
+                .into())
         }
         Some(other) => return Err(format!("'descr' is not a dtype string: {other:?}")),
         None => return Err("the header has no 'descr' (dtype) entry".into()),
@@ -189,11 +184,7 @@ pub(crate) fn parse_header(text: &[u8]) -> Result<Header, String> {
         Some(other) => return Err(format!("'shape' is not a tuple: {other:?}")),
         None => return Err("the header has no 'shape' entry".into()),
     };
-    Ok(Header {
-        descr,
-        fortran_order,
-        shape,
-    })
+    Ok(Header { descr, fortran_order, shape })
 }
 
 /// Writes the header dict the way the format specification describes it.
@@ -201,14 +192,7 @@ pub(crate) fn format_header(descr: &str, shape: &[usize]) -> String {
     let dims = match shape.len() {
         0 => "()".to_string(),
         1 => format!("({},)", shape[0]),
-        _ => format!(
-            "({})",
-            shape
-                .iter()
-                .map(|d| d.to_string())
-                .collect::<Vec<_>>()
-                .join(", ")
-        ),
+        _ => format!("({})", shape.iter().map(|d| d.to_string()).collect::<Vec<_>>().join(", ")),
     };
     format!("{{'descr': '{descr}', 'fortran_order': False, 'shape': {dims}, }}")
 }
@@ -222,14 +206,7 @@ mod tests {
         // Header text as numpy writes it (the .npy format specification, version 1.0).
         let h = parse_header(b"{'descr': '<f8', 'fortran_order': False, 'shape': (3, 4), }   \n")
             .unwrap();
-        assert_eq!(
-            h,
-            Header {
-                descr: "<f8".into(),
-                fortran_order: false,
-                shape: vec![3, 4]
-            }
-        );
+        assert_eq!(h, Header { descr: "<f8".into(), fortran_order: false, shape: vec![3, 4] });
         let h = parse_header(b"{'descr': '|b1', 'fortran_order': True, 'shape': (5,), }").unwrap();
         assert_eq!((h.shape, h.fortran_order), (vec![5], true));
         let h = parse_header(b"{'descr': '<U2', 'fortran_order': False, 'shape': (), }").unwrap();

@@ -28,17 +28,12 @@ pub(crate) struct Npz<'a> {
 
 impl<'a> Npz<'a> {
     pub(crate) fn open(file: &str, bytes: &'a [u8]) -> Result<Npz<'a>, IoError> {
-        let zip_err = |reason: String| IoError::Zip {
-            file: file.to_string(),
-            reason,
-        };
+        let zip_err = |reason: String| IoError::Zip { file: file.to_string(), reason };
         if bytes.is_empty() {
             return Err(IoError::EmptyFile { file: file.into() });
         }
         if !bytes.starts_with(b"PK") {
-            return Err(zip_err(
-                "it does not start with the zip signature 'PK'".into(),
-            ));
+            return Err(zip_err("it does not start with the zip signature 'PK'".into()));
         }
         let zip = ZipArchive::new(Cursor::new(bytes)).map_err(|e| zip_err(e.to_string()))?;
         let mut entries = Vec::new();
@@ -52,11 +47,7 @@ impl<'a> Npz<'a> {
                 entries.push((stem.to_string(), index));
             }
         }
-        Ok(Npz {
-            file: file.to_string(),
-            zip,
-            entries,
-        })
+        Ok(Npz { file: file.to_string(), zip, entries })
     }
 
     /// Array names in archive order.
@@ -67,11 +58,8 @@ impl<'a> Npz<'a> {
     /// Decompresses and parses the array at position `k` of [`Npz::names`].
     pub(crate) fn read(&mut self, k: usize) -> Result<NpyArray, IoError> {
         let (name, index) = self.entries[k].clone();
-        let npy_err = |reason: String| IoError::Npy {
-            file: self.file.clone(),
-            array: name.clone(),
-            reason,
-        };
+        let npy_err =
+            |reason: String| IoError::Npy { file: self.file.clone(), array: name.clone(), reason };
         let mut entry = self
             .zip
             .by_index(index)
@@ -116,12 +104,9 @@ pub fn write_arrays_npz(arrays: &[NpyArray]) -> Vec<u8> {
             .large_file(bytes.len() >= ZIP32_LIMIT);
         zip.start_file(format!("{}.npy", a.name), options)
             .unwrap_or_else(|e| panic!("write_arrays_npz: entry '{}': {e}", a.name));
-        zip.write_all(&bytes)
-            .expect("writing into an in-memory zip archive cannot fail");
+        zip.write_all(&bytes).expect("writing into an in-memory zip archive cannot fail");
     }
-    zip.finish()
-        .expect("finishing an in-memory zip archive cannot fail")
-        .into_inner()
+    zip.finish().expect("finishing an in-memory zip archive cannot fail").into_inner()
 }
 
 #[cfg(test)]
@@ -132,11 +117,7 @@ mod tests {
     fn sample() -> Vec<NpyArray> {
         vec![
             NpyArray::new("x", vec![3], NpyData::F64(vec![0.0, 0.5, 1.0])),
-            NpyArray::new(
-                "u",
-                vec![2, 3],
-                NpyData::F32(vec![1.0, 2.0, 3.0, 4.0, 5.0, 6.0]),
-            ),
+            NpyArray::new("u", vec![2, 3], NpyData::F32(vec![1.0, 2.0, 3.0, 4.0, 5.0, 6.0])),
             NpyArray::new("mask", vec![3], NpyData::Bool(vec![false, true, false])),
             NpyArray::new("unit", vec![], NpyData::Str("mm".into())),
         ]
@@ -167,9 +148,7 @@ mod tests {
     fn damaged_archives_give_errors() {
         let bytes = write_arrays_npz(&sample());
         for cut in [bytes.len() / 2, bytes.len() - 10, 30, 3] {
-            let e = read_npz_named("run.npz", &bytes[..cut])
-                .unwrap_err()
-                .to_string();
+            let e = read_npz_named("run.npz", &bytes[..cut]).unwrap_err().to_string();
             assert!(e.contains("run.npz"), "{e}");
         }
         let e = read_npz_named("run.npz", b"\x93NUMPY not a zip").unwrap_err();
@@ -178,8 +157,7 @@ mod tests {
         assert!(matches!(e, IoError::EmptyFile { .. }), "{e}");
         // A damaged array inside a sound archive names the array.
         let mut zip = ZipWriter::new(Cursor::new(Vec::new()));
-        zip.start_file("u.npy", SimpleFileOptions::default())
-            .unwrap();
+        zip.start_file("u.npy", SimpleFileOptions::default()).unwrap();
         let npy = write_npy(&sample()[1]);
         zip.write_all(&npy[..npy.len() - 4]).unwrap();
         let bytes = zip.finish().unwrap().into_inner();

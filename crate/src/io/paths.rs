@@ -10,10 +10,8 @@ use std::path::PathBuf;
 pub fn read_paths(paths: &[PathBuf], opts: &ReadOptions) -> Result<Series, IoError> {
     let mut files = Vec::new();
     for p in paths {
-        let meta = std::fs::metadata(p).map_err(|e| IoError::Read {
-            path: p.display().to_string(),
-            reason: e.to_string(),
-        })?;
+        let meta = std::fs::metadata(p)
+            .map_err(|e| IoError::Read { path: p.display().to_string(), reason: e.to_string() })?;
         if meta.is_dir() {
             let mut inside: Vec<PathBuf> = std::fs::read_dir(p)
                 .map_err(|e| IoError::Read {
@@ -38,10 +36,8 @@ pub fn read_paths(paths: &[PathBuf], opts: &ReadOptions) -> Result<Series, IoErr
     }
     let mut named = Vec::with_capacity(files.len());
     for f in files {
-        let bytes = std::fs::read(&f).map_err(|e| IoError::Read {
-            path: f.display().to_string(),
-            reason: e.to_string(),
-        })?;
+        let bytes = std::fs::read(&f)
+            .map_err(|e| IoError::Read { path: f.display().to_string(), reason: e.to_string() })?;
         named.push(NamedBytes::new(f.display().to_string(), bytes));
     }
     read_series(&named, opts)

@@ -60,10 +60,7 @@ fn unitless_series_round_trip() {
         t: vec![3.0],
         u: vec![1.0; 6],
         v: vec![-1.0; 6],
-        units: Units {
-            length: LengthUnit::Unitless,
-            time: TimeUnit::Unitless,
-        },
+        units: Units { length: LengthUnit::Unitless, time: TimeUnit::Unitless },
         ..Default::default()
     })
     .unwrap();
@@ -73,23 +70,14 @@ fn unitless_series_round_trip() {
         vec![],
         NpyData::Str("unitless".into())
     )));
-    let back = read_series(
-        &[NamedBytes::new("s.npz", write_npz(&s))],
-        &ReadOptions::default(),
-    )
-    .unwrap();
+    let back =
+        read_series(&[NamedBytes::new("s.npz", write_npz(&s))], &ReadOptions::default()).unwrap();
     assert_eq!(back, s);
     // Unitless CSV ("x [1]", "u [1]") reads back unitless too.
     let csv = write_csv_snapshot(&s, 0);
-    assert!(
-        csv.starts_with("x [1],y [1],u [1],v [1],valid,t [1]\n"),
-        "{csv}"
-    );
-    let back = read_series(
-        &[NamedBytes::new("s.csv", csv.into_bytes())],
-        &ReadOptions::default(),
-    )
-    .unwrap();
+    assert!(csv.starts_with("x [1],y [1],u [1],v [1],valid,t [1]\n"), "{csv}");
+    let back = read_series(&[NamedBytes::new("s.csv", csv.into_bytes())], &ReadOptions::default())
+        .unwrap();
     assert_eq!(back, s);
 }
 
@@ -97,20 +85,7 @@ fn unitless_series_round_trip() {
 fn npz_writes_units_and_gaps() {
     let arrays = read_arrays_npz(&write_npz(&sample(2))).unwrap();
     let names: Vec<&str> = arrays.iter().map(|a| a.name.as_str()).collect();
-    assert_eq!(
-        names,
-        [
-            "x",
-            "y",
-            "t",
-            "u",
-            "v",
-            "mask",
-            "length_unit",
-            "time_unit",
-            "gaps"
-        ]
-    );
+    assert_eq!(names, ["x", "y", "t", "u", "v", "mask", "length_unit", "time_unit", "gaps"]);
     assert_eq!(arrays[6].data, NpyData::Str("m".into()));
     assert_eq!(arrays[7].data, NpyData::Str("s".into()));
     assert_eq!(arrays[3].shape, [2, 3, 4]);
@@ -122,12 +97,7 @@ fn npy_set_reads_like_npz() {
     let files: Vec<NamedBytes> = read_arrays_npz(&write_npz(&s))
         .unwrap()
         .into_iter()
-        .map(|a| {
-            NamedBytes::new(
-                format!("run/{}.npy", a.name.to_uppercase()),
-                a.to_npy_bytes(),
-            )
-        })
+        .map(|a| NamedBytes::new(format!("run/{}.npy", a.name.to_uppercase()), a.to_npy_bytes()))
         .collect();
     assert_eq!(read_series(&files, &ReadOptions::default()).unwrap(), s);
 }
@@ -136,12 +106,7 @@ fn npy_set_reads_like_npz() {
 fn csv_round_trip() {
     let s = sample(3);
     let files: Vec<NamedBytes> = (0..s.nt())
-        .map(|k| {
-            NamedBytes::new(
-                format!("snap{k}.csv"),
-                write_csv_snapshot(&s, k).into_bytes(),
-            )
-        })
+        .map(|k| NamedBytes::new(format!("snap{k}.csv"), write_csv_snapshot(&s, k).into_bytes()))
         .rev()
         .collect();
     let back = read_series(&files, &ReadOptions::default()).unwrap();
@@ -152,10 +117,7 @@ fn csv_round_trip() {
     assert_eq!(back.u(), s.u());
     assert_eq!(back.v(), s.v());
     let text = write_csv_snapshot(&s, 1);
-    assert!(
-        text.starts_with("x [m],y [m],u [m/s],v [m/s],valid,t [s]\n"),
-        "{text}"
-    );
+    assert!(text.starts_with("x [m],y [m],u [m/s],v [m/s],valid,t [s]\n"), "{text}");
 }
 
 #[test]
@@ -183,9 +145,7 @@ fn tolerant_canonical_layouts() {
     // Matrix-indexed (ij) meshgrids: x varies down the rows, data stored (nx, ny).
     let xij: Vec<f64> = (0..nx * ny).map(|c| (c / ny) as f64).collect();
     let yij: Vec<f64> = (0..nx * ny).map(|c| 10.0 + 2.0 * (c % ny) as f64).collect();
-    let uij: Vec<f32> = (0..nx * ny)
-        .map(|c| (10 * (c / ny) + c % ny) as f32)
-        .collect();
+    let uij: Vec<f32> = (0..nx * ny).map(|c| (10 * (c / ny) + c % ny) as f32).collect();
     let ij = npz(
         "ij.npz",
         &[
@@ -206,11 +166,7 @@ fn tolerant_canonical_layouts() {
         &[
             arr("x", vec![nx], f64s(nx, |i| i as f64)),
             arr("y", vec![ny], f64s(ny, |j| j as f64)),
-            arr(
-                "u",
-                vec![nt, ny, nx],
-                f32s(n, |i| if i == 3 { f32::NAN } else { 0.5 }),
-            ),
+            arr("u", vec![nt, ny, nx], f32s(n, |i| if i == 3 { f32::NAN } else { 0.5 })),
             arr("v", vec![nt, ny, nx], f32s(n, |_| 0.5)),
             arr("mask", vec![ny, nx], NpyData::U8(vec![0, 0, 0, 0, 0, 1])),
             arr("length_unit", vec![], NpyData::Str("mm".into())),
@@ -219,11 +175,7 @@ fn tolerant_canonical_layouts() {
     let e = read_series(&many, &ReadOptions::default()).unwrap_err();
     assert!(matches!(e, IoError::NeedDt { .. }), "{e}");
     assert!(e.to_string().contains("2 snapshots"), "{e}");
-    let opts = ReadOptions {
-        dt: Some(0.5),
-        t_start: 1.0,
-        ..Default::default()
-    };
+    let opts = ReadOptions { dt: Some(0.5), t_start: 1.0, ..Default::default() };
     let s = read_series(&many, &opts).unwrap();
     assert_eq!(s.times(), [1.0, 1.5]);
     assert_eq!(s.source_units().length, crate::field::LengthUnit::Mm);
@@ -252,19 +204,14 @@ fn canonical_layout_errors_name_the_problem() {
         ]
     };
     let err = |arrays: Vec<NpyArray>| {
-        read_series(&npz("d.npz", &arrays), &ReadOptions::default())
-            .unwrap_err()
-            .to_string()
+        read_series(&npz("d.npz", &arrays), &ReadOptions::default()).unwrap_err().to_string()
     };
     assert!(read_series(&npz("d.npz", &good()), &ReadOptions::default()).is_ok());
 
     let mut a = good();
     a.remove(4);
     let e = err(a);
-    assert!(
-        e.contains("no array 'v'") && e.contains("x, y, t, u"),
-        "{e}"
-    );
+    assert!(e.contains("no array 'v'") && e.contains("x, y, t, u"), "{e}");
 
     let mut a = good();
     a[4] = arr("v", vec![ny, nx], f32s(nx * ny, |_| 1.0));
@@ -293,11 +240,7 @@ fn canonical_layout_errors_name_the_problem() {
     assert!(err(a).contains("'u' must hold numbers, not bool"));
 
     let mut a = good();
-    a.push(arr(
-        "mask",
-        vec![nx, ny],
-        NpyData::Bool(vec![false; nx * ny]),
-    ));
+    a.push(arr("mask", vec![nx, ny], NpyData::Bool(vec![false; nx * ny])));
     assert!(err(a).contains("mask has shape (3, 2)"));
 
     let mut a = good();
@@ -311,10 +254,7 @@ fn canonical_layout_errors_name_the_problem() {
     let mut a = good();
     a[0] = arr("x", vec![nx], NpyData::F64(vec![0.0, 1.0, 5.0]));
     let e = err(a);
-    assert!(
-        e.contains("'d.npz'") && e.contains("not uniformly spaced"),
-        "{e}"
-    );
+    assert!(e.contains("'d.npz'") && e.contains("not uniformly spaced"), "{e}");
 
     // Complex data is refused with the array named (dtype written by hand).
     let mut complex = b"\x93NUMPY\x01\x00".to_vec();
@@ -328,13 +268,8 @@ fn canonical_layout_errors_name_the_problem() {
         .map(|a| NamedBytes::new(format!("{}.npy", a.name), a.to_npy_bytes()))
         .collect();
     files.push(NamedBytes::new("u.npy", complex));
-    let e = read_series(&files, &ReadOptions::default())
-        .unwrap_err()
-        .to_string();
-    assert!(
-        e.contains("'u.npy': array 'u'") && e.contains("complex"),
-        "{e}"
-    );
+    let e = read_series(&files, &ReadOptions::default()).unwrap_err().to_string();
+    assert!(e.contains("'u.npy': array 'u'") && e.contains("complex"), "{e}");
 }
 
 #[test]
@@ -342,22 +277,11 @@ fn dispatch_errors() {
     let opts = ReadOptions::default();
     assert!(matches!(read_series(&[], &opts), Err(IoError::NoInput)));
     let s = write_npz(&sample(1));
-    let two = [
-        NamedBytes::new("a.npz", s.clone()),
-        NamedBytes::new("b.npz", s.clone()),
-    ];
-    assert!(read_series(&two, &opts)
-        .unwrap_err()
-        .to_string()
-        .contains("one .npz"));
-    let mixed = [
-        NamedBytes::new("a.npz", s.clone()),
-        NamedBytes::new("b.csv", b"x,y,u,v\n".to_vec()),
-    ];
-    assert!(read_series(&mixed, &opts)
-        .unwrap_err()
-        .to_string()
-        .contains("mixture"));
+    let two = [NamedBytes::new("a.npz", s.clone()), NamedBytes::new("b.npz", s.clone())];
+    assert!(read_series(&two, &opts).unwrap_err().to_string().contains("one .npz"));
+    let mixed =
+        [NamedBytes::new("a.npz", s.clone()), NamedBytes::new("b.csv", b"x,y,u,v\n".to_vec())];
+    assert!(read_series(&mixed, &opts).unwrap_err().to_string().contains("mixture"));
     let e = read_series(&[NamedBytes::new("a.bin", vec![0, 159, 146, 150])], &opts).unwrap_err();
     assert!(e.to_string().contains("unknown format"), "{e}");
     // Without an extension the content decides.
@@ -365,10 +289,7 @@ fn dispatch_errors() {
     let truncated = [NamedBytes::new("a.npz", s[..s.len() / 2].to_vec())];
     let e = read_series(&truncated, &opts).unwrap_err().to_string();
     assert!(e.contains("'a.npz' is not a readable .npz"), "{e}");
-    let bad = ReadOptions {
-        dt: Some(-1.0),
-        ..Default::default()
-    };
+    let bad = ReadOptions { dt: Some(-1.0), ..Default::default() };
     let e = read_series(&[NamedBytes::new("a.npz", s)], &bad).unwrap_err();
     assert!(matches!(e, IoError::BadOption { option: "dt", .. }), "{e}");
 }
@@ -385,18 +306,11 @@ fn vti_follows_the_image_data_layout() {
     // VTK XML file formats: ImageData with WholeExtent, Origin, Spacing, PointData.
     assert!(head.contains("type=\"ImageData\""), "{head}");
     assert!(head.contains("WholeExtent=\"0 3 0 2 0 0\""), "{head}");
-    assert!(
-        head.contains("Origin=\"0.1 -1 0\" Spacing=\"0.25 0.5 1\""),
-        "{head}"
-    );
+    assert!(head.contains("Origin=\"0.1 -1 0\" Spacing=\"0.25 0.5 1\""), "{head}");
     // The velocity block is the second one (after the time): read it back and compare.
     // The appended block starts after the '_' that follows the AppendedData tag.
     let marker = b"<AppendedData encoding=\"raw\">\n   _";
-    let base = bytes
-        .windows(marker.len())
-        .position(|w| w == marker)
-        .unwrap()
-        + marker.len();
+    let base = bytes.windows(marker.len()).position(|w| w == marker).unwrap() + marker.len();
     let len_at = |off: usize| {
         u64::from_le_bytes(bytes[base + off..base + off + 8].try_into().unwrap()) as usize
     };

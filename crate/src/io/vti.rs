@@ -28,10 +28,7 @@ struct Array<'a> {
 
 /// Escapes text for an XML attribute value.
 fn xml_attr(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('"', "&quot;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
+    s.replace('&', "&amp;").replace('"', "&quot;").replace('<', "&lt;").replace('>', "&gt;")
 }
 
 #[cold]
@@ -127,22 +124,13 @@ pub fn write_vti(
             length_mismatch("vector", name, a.len().min(b.len()), n);
         }
         let data = a.iter().zip(b).flat_map(|(&p, &q)| [p, q, 0.0]).collect();
-        arrays.push(Array {
-            name,
-            values: Values::F32 { comps: 3, data },
-        });
+        arrays.push(Array { name, values: Values::F32 { comps: 3, data } });
     }
     for &(name, a) in fields {
         if a.len() != n {
             length_mismatch("field", name, a.len(), n);
         }
-        arrays.push(Array {
-            name,
-            values: Values::F32 {
-                comps: 1,
-                data: a.to_vec(),
-            },
-        });
+        arrays.push(Array { name, values: Values::F32 { comps: 1, data: a.to_vec() } });
     }
     let mask_bytes: Vec<u8>;
     if let Some(m) = mask {
@@ -150,10 +138,7 @@ pub fn write_vti(
             length_mismatch("mask", "mask", m.len(), n);
         }
         mask_bytes = m.iter().map(|&b| b as u8).collect();
-        arrays.push(Array {
-            name: "mask",
-            values: Values::U8(&mask_bytes),
-        });
+        arrays.push(Array { name: "mask", values: Values::U8(&mask_bytes) });
     }
     encode(grid, &arrays, time)
 }
@@ -181,26 +166,13 @@ pub fn write_series_vti(series: &Series) -> Vec<(String, Vec<u8>)> {
                             .collect(),
                     },
                 },
-                Array {
-                    name: "speed",
-                    values: Values::F32 {
-                        comps: 1,
-                        data: speed(series, k),
-                    },
-                },
-                Array {
-                    name: "mask",
-                    values: Values::U8(&mask),
-                },
+                Array { name: "speed", values: Values::F32 { comps: 1, data: speed(series, k) } },
+                Array { name: "mask", values: Values::U8(&mask) },
             ];
-            let gap: Option<Vec<u8>> = series
-                .gaps_at(k)
-                .map(|g| g.iter().map(|&b| b as u8).collect());
+            let gap: Option<Vec<u8>> =
+                series.gaps_at(k).map(|g| g.iter().map(|&b| b as u8).collect());
             if let Some(g) = &gap {
-                arrays.push(Array {
-                    name: "gap",
-                    values: Values::U8(g),
-                });
+                arrays.push(Array { name: "gap", values: Values::U8(g) });
             }
             let bytes = encode(series.grid(), &arrays, Some(series.times()[k]));
             (format!("_{k:0width$}.vti"), bytes)

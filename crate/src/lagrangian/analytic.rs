@@ -44,31 +44,18 @@ pub struct DoubleGyre {
 impl DoubleGyre {
     /// The steady double gyre (ε = 0) with amplitude `a`.
     pub fn steady(a: f64) -> DoubleGyre {
-        DoubleGyre {
-            a,
-            eps: 0.0,
-            omega: 0.0,
-        }
+        DoubleGyre { a, eps: 0.0, omega: 0.0 }
     }
 
     /// The periodically forced double gyre with A = 0.1, ε = 0.25, ω = 2π/10, the parameter
     /// set most often quoted with Shadden et al. (2005) (from memory, METHODS.md check 5).
     pub fn periodic() -> DoubleGyre {
-        DoubleGyre {
-            a: 0.1,
-            eps: 0.25,
-            omega: 2.0 * PI / 10.0,
-        }
+        DoubleGyre { a: 0.1, eps: 0.25, omega: 2.0 * PI / 10.0 }
     }
 
     /// The box the flow lives in, [0, 2] × [0, 1].
     pub fn domain() -> Rect {
-        Rect {
-            x0: 0.0,
-            x1: 2.0,
-            y0: 0.0,
-            y1: 1.0,
-        }
+        Rect { x0: 0.0, x1: 2.0, y0: 0.0, y1: 1.0 }
     }
 }
 
@@ -148,10 +135,7 @@ impl VelocityField for DoubleGyre {
         let u = [-pa * sf * cy, pa * cf * sy * fx];
         let g = [
             [-pa * PI * cf * fx * cy, pa * PI * sf * sy],
-            [
-                pa * (-PI * sf * fx * fx + cf * fxx) * sy,
-                pa * PI * cf * cy * fx,
-            ],
+            [pa * (-PI * sf * fx * fx + cf * fxx) * sy, pa * PI * cf * cy * fx],
         ];
         Some((u, g))
     }
@@ -203,9 +187,7 @@ pub fn linspace(a: f64, b: f64, n: usize) -> Vec<f64> {
     if n == 1 {
         return vec![a];
     }
-    (0..n)
-        .map(|i| a + (b - a) * i as f64 / (n - 1) as f64)
-        .collect()
+    (0..n).map(|i| a + (b - a) * i as f64 / (n - 1) as f64).collect()
 }
 
 #[cfg(test)]
@@ -227,16 +209,8 @@ mod tests {
             for r in 0..2 {
                 let dx = (up[r] - um[r]) / (2.0 * h);
                 let dy = (vp[r] - vm[r]) / (2.0 * h);
-                assert!(
-                    (m[r][0] - dx).abs() < 1e-7,
-                    "row {r} d/dx {} vs {dx}",
-                    m[r][0]
-                );
-                assert!(
-                    (m[r][1] - dy).abs() < 1e-7,
-                    "row {r} d/dy {} vs {dy}",
-                    m[r][1]
-                );
+                assert!((m[r][0] - dx).abs() < 1e-7, "row {r} d/dx {} vs {dx}", m[r][0]);
+                assert!((m[r][1] - dy).abs() < 1e-7, "row {r} d/dy {} vs {dy}", m[r][1]);
             }
             assert!((m[0][0] + m[1][1]).abs() < 1e-12);
         }

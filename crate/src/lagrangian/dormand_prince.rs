@@ -45,11 +45,7 @@ pub struct DopriOptions {
 
 impl Default for DopriOptions {
     fn default() -> Self {
-        DopriOptions {
-            rtol: 1e-6,
-            atol: 1e-9,
-            max_steps: 100_000,
-        }
+        DopriOptions { rtol: 1e-6, atol: 1e-9, max_steps: 100_000 }
     }
 }
 
@@ -76,11 +72,7 @@ fn first_step<const N: usize, Sys: System<N>>(
 ) -> (f64, u32) {
     let d0 = scaled_rms(y0, y0, y0, o);
     let d1 = scaled_rms(f0, y0, y0, o);
-    let h0 = if d0 < 1e-5 || d1 < 1e-5 {
-        1e-6
-    } else {
-        0.01 * d0 / d1
-    };
+    let h0 = if d0 < 1e-5 || d1 < 1e-5 { 1e-6 } else { 0.01 * d0 / d1 };
     let h0 = h0.min(span);
     let mut y1 = *y0;
     for n in 0..N {
@@ -95,11 +87,7 @@ fn first_step<const N: usize, Sys: System<N>>(
     }
     let d2 = scaled_rms(&df, y0, y0, o) / h0;
     let m = d1.max(d2);
-    let h1 = if m <= 1e-15 {
-        (h0 * 1e-3).max(1e-6)
-    } else {
-        (0.01 / m).powf(0.2)
-    };
+    let h1 = if m <= 1e-15 { (h0 * 1e-3).max(1e-6) } else { (0.01 / m).powf(0.2) };
     ((100.0 * h0).min(h1).min(span), 1)
 }
 
@@ -114,13 +102,7 @@ pub fn integrate_dopri<const N: usize, Sys: System<N>>(
     let dir = horizon.signum();
     let span = horizon.abs();
     let t_end = t0 + horizon;
-    let mut out = Outcome {
-        y: y0,
-        t: t0,
-        stop: Stop::Exited,
-        rhs_calls: 1,
-        rejected: 0,
-    };
+    let mut out = Outcome { y: y0, t: t0, stop: Stop::Exited, rhs_calls: 1, rejected: 0 };
     let Some(mut f0) = sys.rhs(t0, &y0) else {
         return out;
     };
@@ -162,11 +144,8 @@ pub fn integrate_dopri<const N: usize, Sys: System<N>>(
                 return out;
             }
             out.t += dir * h_try;
-            let mut factor = if norm == 0.0 {
-                MAX_GROWTH
-            } else {
-                (SAFETY * norm.powf(-0.2)).min(MAX_GROWTH)
-            };
+            let mut factor =
+                if norm == 0.0 { MAX_GROWTH } else { (SAFETY * norm.powf(-0.2)).min(MAX_GROWTH) };
             if no_growth {
                 factor = factor.min(1.0);
                 no_growth = false;

@@ -124,9 +124,8 @@ impl FtleRows {
     /// Joins consecutive row ranges of one grid, in order, into one result.
     pub fn concat(parts: Vec<FtleRows>) -> Result<FtleRows, LagrangianError> {
         let mut it = parts.into_iter();
-        let mut all = it
-            .next()
-            .ok_or_else(|| LagrangianError::Invalid("no row ranges to join".into()))?;
+        let mut all =
+            it.next().ok_or_else(|| LagrangianError::Invalid("no row ranges to join".into()))?;
         for p in it {
             if p.j0 != all.j1 || p.grid != all.grid {
                 return Err(LagrangianError::Invalid(format!(
@@ -193,8 +192,7 @@ impl FtleRows {
         if value.is_some() {
             st.max_det_deviation = st.max_det_deviation.max(dev);
         }
-        self.ftle
-            .push(if sigma.is_finite() { sigma as f32 } else { 0.0 });
+        self.ftle.push(if sigma.is_finite() { sigma as f32 } else { 0.0 });
         self.tau.push(tau as f32);
         self.det_deviation.push(dev as f32);
         self.flag.push(flag);
@@ -264,22 +262,15 @@ fn node_gradient<G: VelocityField>(
             let out = integrate(&Satellites(field), satellites_start(p, offset), a);
             let y = out.y;
             let k = 0.5 / offset;
-            let m = [
-                [(y[2] - y[4]) * k, (y[6] - y[8]) * k],
-                [(y[3] - y[5]) * k, (y[7] - y[9]) * k],
-            ];
+            let m =
+                [[(y[2] - y[4]) * k, (y[6] - y[8]) * k], [(y[3] - y[5]) * k, (y[7] - y[9]) * k]];
             (m, out.t, out.stop.into(), out.rhs_calls as u64 * 5)
         }
         _ => {
             let y0 = [p[0], p[1], 1.0, 0.0, 0.0, 1.0];
             let out = integrate(&Tangent(field), y0, a);
             let y = out.y;
-            (
-                [[y[2], y[3]], [y[4], y[5]]],
-                out.t,
-                out.stop.into(),
-                out.rhs_calls as u64,
-            )
+            ([[y[2], y[3]], [y[4], y[5]]], out.t, out.stop.into(), out.rhs_calls as u64)
         }
     }
 }
@@ -335,16 +326,8 @@ pub fn ftle_points<F: VelocityField>(
     }
     // A one-row "grid" whose nodes are the points; only its size is meaningful.
     let grid = TracerGrid {
-        x: crate::field::Axis {
-            start: 0.0,
-            step: 1.0,
-            n: points.len(),
-        },
-        y: crate::field::Axis {
-            start: 0.0,
-            step: 1.0,
-            n: 1,
-        },
+        x: crate::field::Axis { start: 0.0, step: 1.0, n: points.len() },
+        y: crate::field::Axis { start: 0.0, step: 1.0, n: 1 },
     };
     let a = &o.advect;
     let mut r = FtleRows::with_capacity(&grid, 0, 1, a.horizon);

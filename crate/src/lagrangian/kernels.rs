@@ -43,10 +43,7 @@ pub fn keys_fold(i: usize, n: usize, w: [f64; 4]) -> (usize, [f64; 4]) {
         // Nodes n−3, n−2, n−1, n → n−4.. with the ghost folded into n−1, n−2, n−3.
         // Cell i = n−2: stencil n−3, n−2, n−1, ghost n.
         if n >= 4 {
-            (
-                n - 4,
-                [0.0, w[0] + w[3], w[1] - 3.0 * w[3], w[2] + 3.0 * w[3]],
-            )
+            (n - 4, [0.0, w[0] + w[3], w[1] - 3.0 * w[3], w[2] + 3.0 * w[3]])
         } else {
             // n == 3, cell 1: nodes 0, 1, 2 plus ghost 3 → start 0, no fourth node.
             (0, [w[0] + w[3], w[1] - 3.0 * w[3], w[2] + 3.0 * w[3], 0.0])
@@ -77,10 +74,7 @@ pub fn locate_time(times: &[f64], uniform: Option<(f64, f64)>, t: f64) -> Option
     }
     let mut k = match uniform {
         Some((t0, inv)) => (((t - t0) * inv) as usize).min(nt - 2),
-        None => times
-            .partition_point(|&x| x <= t)
-            .saturating_sub(1)
-            .min(nt - 2),
+        None => times.partition_point(|&x| x <= t).saturating_sub(1).min(nt - 2),
     };
     // Rounding in the uniform lookup can be off by one at a snapshot time.
     if t < times[k] && k > 0 {
@@ -95,11 +89,7 @@ pub fn locate_time(times: &[f64], uniform: Option<(f64, f64)>, t: f64) -> Option
 /// Linear-in-time stencil between snapshots k and k+1.
 #[inline(always)]
 pub fn linear_time(k: usize, s: f64) -> TimeStencil {
-    TimeStencil {
-        first: k,
-        len: 2,
-        w: [1.0 - s, s, 0.0, 0.0],
-    }
+    TimeStencil { first: k, len: 2, w: [1.0 - s, s, 0.0, 0.0] }
 }
 
 /// Cubic Hermite stencil on interval k, with node slopes from centred differences over the
@@ -139,18 +129,10 @@ pub fn hermite_time(times: &[f64], k: usize, s: f64) -> TimeStencil {
     if k == 0 {
         // Shift the window so it starts at snapshot 0 (w[0] is zero here).
         let len = if k + 2 < nt { 3 } else { 2 };
-        TimeStencil {
-            first: 0,
-            len,
-            w: [w[1], w[2], w[3], 0.0],
-        }
+        TimeStencil { first: 0, len, w: [w[1], w[2], w[3], 0.0] }
     } else {
         let len = if k + 2 < nt { 4 } else { 3 };
-        TimeStencil {
-            first: k - 1,
-            len,
-            w,
-        }
+        TimeStencil { first: k - 1, len, w }
     }
 }
 
@@ -167,9 +149,7 @@ mod tests {
     #[test]
     fn keys_reproduces_quadratics_and_its_derivative() {
         let n = 6;
-        let f: Vec<f64> = (0..n)
-            .map(|i| 0.3 * (i * i) as f64 - 1.2 * i as f64 + 0.7)
-            .collect();
+        let f: Vec<f64> = (0..n).map(|i| 0.3 * (i * i) as f64 - 1.2 * i as f64 + 0.7).collect();
         let df = |x: f64| 0.6 * x - 1.2;
         for i in 0..n - 1 {
             for &s in &[0.0, 0.25, 0.5, 0.9, 1.0] {
@@ -177,22 +157,13 @@ mod tests {
                 let (first, w) = keys_fold(i, n, w);
                 let (_, dw) = keys_fold(i, n, dw);
                 let x = i as f64 + s;
-                let val: f64 = (0..4)
-                    .map(|m| w[m] * f.get(first + m).copied().unwrap_or(0.0))
-                    .sum();
-                let der: f64 = (0..4)
-                    .map(|m| dw[m] * f.get(first + m).copied().unwrap_or(0.0))
-                    .sum();
+                let val: f64 =
+                    (0..4).map(|m| w[m] * f.get(first + m).copied().unwrap_or(0.0)).sum();
+                let der: f64 =
+                    (0..4).map(|m| dw[m] * f.get(first + m).copied().unwrap_or(0.0)).sum();
                 let exact = 0.3 * x * x - 1.2 * x + 0.7;
-                assert!(
-                    (val - exact).abs() < 1e-12,
-                    "cell {i} s {s}: {val} vs {exact}"
-                );
-                assert!(
-                    (der - df(x)).abs() < 1e-12,
-                    "cell {i} s {s}: {der} vs {}",
-                    df(x)
-                );
+                assert!((val - exact).abs() < 1e-12, "cell {i} s {s}: {val} vs {exact}");
+                assert!((der - df(x)).abs() < 1e-12, "cell {i} s {s}: {der} vs {}", df(x));
             }
         }
     }

@@ -17,13 +17,9 @@ pub fn ftle_field_parallel<F: VelocityField + Sync>(
     rows_per_chunk: usize,
 ) -> Result<FtleRows, LagrangianError> {
     let step = rows_per_chunk.max(1);
-    let ranges: Vec<(usize, usize)> = (0..grid.ny())
-        .step_by(step)
-        .map(|j0| (j0, (j0 + step).min(grid.ny())))
-        .collect();
-    let parts: Result<Vec<FtleRows>, LagrangianError> = ranges
-        .par_iter()
-        .map(|&(j0, j1)| ftle_rows(field, grid, o, j0, j1))
-        .collect();
+    let ranges: Vec<(usize, usize)> =
+        (0..grid.ny()).step_by(step).map(|j0| (j0, (j0 + step).min(grid.ny()))).collect();
+    let parts: Result<Vec<FtleRows>, LagrangianError> =
+        ranges.par_iter().map(|&(j0, j1)| ftle_rows(field, grid, o, j0, j1)).collect();
     FtleRows::concat(parts?)
 }

@@ -52,10 +52,7 @@ pub struct Ridge {
 impl Ridge {
     /// Length of the polyline.
     pub fn length(&self) -> f64 {
-        self.points
-            .windows(2)
-            .map(|w| (w[1][0] - w[0][0]).hypot(w[1][1] - w[0][1]))
-            .sum()
+        self.points.windows(2).map(|w| (w[1][0] - w[0][0]).hypot(w[1][1] - w[0][1])).sum()
     }
 }
 
@@ -94,11 +91,8 @@ fn smooth(v: &[f64], ok: &[bool], nx: usize, ny: usize) -> Vec<f64> {
 pub fn extract_ridges(map: &FtleRows, o: &RidgeOptions) -> Vec<Ridge> {
     let (nx, ny) = (map.grid.nx(), map.j1 - map.j0);
     let (hx, hy) = (map.grid.x.step, map.grid.y.step);
-    let ok: Vec<bool> = map
-        .flag
-        .iter()
-        .map(|f| matches!(f, FtleFlag::Full | FtleFlag::Exited))
-        .collect();
+    let ok: Vec<bool> =
+        map.flag.iter().map(|f| matches!(f, FtleFlag::Full | FtleFlag::Exited)).collect();
     let mut s: Vec<f64> = map.ftle.iter().map(|&v| v as f64).collect();
     for _ in 0..o.smoothing_passes {
         s = smooth(&s, &ok, nx, ny);
@@ -108,17 +102,8 @@ pub fn extract_ridges(map: &FtleRows, o: &RidgeOptions) -> Vec<Ridge> {
     for j in 1..ny.saturating_sub(1) {
         for i in 1..nx - 1 {
             let c = j * nx + i;
-            let nb = [
-                c - nx - 1,
-                c - nx,
-                c - nx + 1,
-                c - 1,
-                c,
-                c + 1,
-                c + nx - 1,
-                c + nx,
-                c + nx + 1,
-            ];
+            let nb =
+                [c - nx - 1, c - nx, c - nx + 1, c - 1, c, c + 1, c + nx - 1, c + nx, c + nx + 1];
             if !nb.iter().all(|&n| ok[n]) {
                 continue;
             }
@@ -143,10 +128,7 @@ pub fn extract_ridges(map: &FtleRows, o: &RidgeOptions) -> Vec<Ridge> {
             info[c] = Some((gx * n[0] + gy * n[1], n, ln));
         }
     }
-    let smax = (0..nx * ny)
-        .filter(|&c| info[c].is_some())
-        .map(|c| s[c])
-        .fold(f64::MIN, f64::max);
+    let smax = (0..nx * ny).filter(|&c| info[c].is_some()).map(|c| s[c]).fold(f64::MIN, f64::max);
     let cmax = info.iter().flatten().map(|x| -x.2).fold(0.0, f64::max);
     let smin = o.min_ftle_fraction * smax;
     let cmin = o.min_curvature_fraction * cmax;
@@ -159,25 +141,14 @@ pub fn extract_ridges(map: &FtleRows, o: &RidgeOptions) -> Vec<Ridge> {
     let y0 = map.grid.y.coord(map.j0);
     for j in 0..ny.saturating_sub(1) {
         for i in 0..nx - 1 {
-            let corners = [
-                j * nx + i,
-                j * nx + i + 1,
-                (j + 1) * nx + i + 1,
-                (j + 1) * nx + i,
-            ];
+            let corners = [j * nx + i, j * nx + i + 1, (j + 1) * nx + i + 1, (j + 1) * nx + i];
             let Some(vals) = corners.iter().map(|&c| info[c]).collect::<Option<Vec<_>>>() else {
                 continue;
             };
             let n0 = vals[0].1;
             let sv: Vec<f64> = vals
                 .iter()
-                .map(|(sn, n, _)| {
-                    if n[0] * n0[0] + n[1] * n0[1] < 0.0 {
-                        -sn
-                    } else {
-                        *sn
-                    }
-                })
+                .map(|(sn, n, _)| if n[0] * n0[0] + n[1] * n0[1] < 0.0 { -sn } else { *sn })
                 .collect();
             // Cell edges in corner order: bottom (0→1), right (1→2), top (3→2), left (0→3).
             let edges = [
@@ -230,10 +201,7 @@ pub fn extract_ridges(map: &FtleRows, o: &RidgeOptions) -> Vec<Ridge> {
         }
     }
     let min_len = o.min_length_spacings * hx.min(hy);
-    link(&segs)
-        .into_iter()
-        .filter(|r| r.length() >= min_len)
-        .collect()
+    link(&segs).into_iter().filter(|r| r.length() >= min_len).collect()
 }
 
 /// Joins segments that share an edge point into polylines.
@@ -268,9 +236,7 @@ fn link(segs: &[[(usize, Vec2); 2]]) -> Vec<Ridge> {
             used[k] = true;
             pts.push_front(far);
         }
-        out.push(Ridge {
-            points: pts.into_iter().map(|p| p.1).collect(),
-        });
+        out.push(Ridge { points: pts.into_iter().map(|p| p.1).collect() });
     }
     out
 }

@@ -16,8 +16,13 @@ use super::tableau::{combine, stages, RK4};
 
 /// Trajectories [`integrate_rk4_lanes`] advances side by side. A lone trajectory is a chain
 /// of dependent velocity samples; interleaving independent ones lets the processor overlap
-/// their work.
+/// their work. Chosen by measurement on the demo flow map (BENCHMARKS.md): natively 4 lanes
+/// ran about 1.3× faster than 1 or 2; under V8 2 lanes did best (4 spill registers).
+#[cfg(not(target_arch = "wasm32"))]
 pub const LANES: usize = 4;
+/// See the native value; WebAssembly engines do best with 2.
+#[cfg(target_arch = "wasm32")]
+pub const LANES: usize = 2;
 
 /// Bisections used to locate an exit inside the step where it happened.
 pub const EXIT_BISECTIONS: u32 = 12;
@@ -148,7 +153,7 @@ pub fn integrate_rk4_lanes<const N: usize, Sys: System<N>>(
             let done = if ok[l] {
                 lane.y = combine(&RK4.b, h, &lane.y, &k[l]);
                 lane.s += 1;
-                (lane.s == n).then(|| Outcome {
+                (lane.s == n).then_some(Outcome {
                     y: lane.y,
                     t: t0 + horizon,
                     stop: Stop::Complete,

@@ -17,9 +17,7 @@ pub struct TracerGrid {
 impl TracerGrid {
     /// `nx × ny` nodes spanning `rect`, corners included.
     pub fn new(rect: Rect, nx: usize, ny: usize) -> Result<TracerGrid, LagrangianError> {
-        let finite = [rect.x0, rect.x1, rect.y0, rect.y1]
-            .iter()
-            .all(|v| v.is_finite());
+        let finite = [rect.x0, rect.x1, rect.y0, rect.y1].iter().all(|v| v.is_finite());
         if !finite || rect.x1 <= rect.x0 || rect.y1 <= rect.y0 {
             return Err(LagrangianError::BadRectangle {
                 x0: rect.x0,
@@ -35,16 +33,8 @@ impl TracerGrid {
             return Err(LagrangianError::TracerGridTooSmall { axis: "y", n: ny });
         }
         Ok(TracerGrid {
-            x: Axis {
-                start: rect.x0,
-                step: (rect.x1 - rect.x0) / (nx - 1) as f64,
-                n: nx,
-            },
-            y: Axis {
-                start: rect.y0,
-                step: (rect.y1 - rect.y0) / (ny - 1) as f64,
-                n: ny,
-            },
+            x: Axis { start: rect.x0, step: (rect.x1 - rect.x0) / (nx - 1) as f64, n: nx },
+            y: Axis { start: rect.y0, step: (rect.y1 - rect.y0) / (ny - 1) as f64, n: ny },
         })
     }
 

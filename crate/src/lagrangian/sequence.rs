@@ -56,9 +56,7 @@ pub fn ftle_sequence<F: VelocityField>(
         });
     }
     if count == 0 {
-        return Err(LagrangianError::Invalid(
-            "a sequence needs at least one start time".into(),
-        ));
+        return Err(LagrangianError::Invalid("a sequence needs at least one start time".into()));
     }
     let horizon = o.advect.horizon;
     let member = |i: usize| {
@@ -70,9 +68,7 @@ pub fn ftle_sequence<F: VelocityField>(
     member(0).advect.validate(field)?;
     member(count - 1).advect.validate(field)?;
     match method {
-        SequenceMethod::Direct => (0..count)
-            .map(|i| ftle_field(field, grid, &member(i)))
-            .collect(),
+        SequenceMethod::Direct => (0..count).map(|i| ftle_field(field, grid, &member(i))).collect(),
         SequenceMethod::Composition => {
             let m = (horizon.abs() / interval).round();
             if m < 1.0 || (m * interval - horizon.abs()).abs() > 1e-9 * horizon.abs() {
@@ -110,11 +106,7 @@ impl ShortMap {
         ShortMap {
             dx,
             dy,
-            ok: fm
-                .status
-                .iter()
-                .map(|&s| s == NodeStatus::Complete)
-                .collect(),
+            ok: fm.status.iter().map(|&s| s == NodeStatus::Complete).collect(),
             rhs_calls: fm.rhs_calls,
         }
     }
@@ -135,12 +127,7 @@ impl ShortMap {
         if !corners.iter().all(|&k| self.ok[k]) {
             return None;
         }
-        let w = [
-            (1.0 - sx) * (1.0 - sy),
-            sx * (1.0 - sy),
-            (1.0 - sx) * sy,
-            sx * sy,
-        ];
+        let w = [(1.0 - sx) * (1.0 - sy), sx * (1.0 - sy), (1.0 - sx) * sy, sx * sy];
         let mut d = [0.0; 2];
         for (k, &n) in corners.iter().enumerate() {
             d[0] += w[k] * self.dx[n];
@@ -220,11 +207,7 @@ fn compose<F: VelocityField>(
                 fm.x.push(p[0]);
                 fm.y.push(p[1]);
                 fm.tau.push(done as f64 * interval);
-                fm.status.push(if done == m {
-                    NodeStatus::Complete
-                } else {
-                    NodeStatus::Exited
-                });
+                fm.status.push(if done == m { NodeStatus::Complete } else { NodeStatus::Exited });
             }
         }
         out.push(ftle_from_flow_map(&fm, 0, grid.ny(), a.horizon));

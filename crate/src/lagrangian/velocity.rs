@@ -135,13 +135,7 @@ impl<F: VelocityField> Extended<F> {
         let q = w.clamp(p);
         let (u, g) = self.inner.velocity_gradient(q, t)?;
         let d = [p[0] - q[0], p[1] - q[1]];
-        Some((
-            [
-                u[0] + g[0][0] * d[0] + g[0][1] * d[1],
-                u[1] + g[1][0] * d[0] + g[1][1] * d[1],
-            ],
-            g,
-        ))
+        Some(([u[0] + g[0][0] * d[0] + g[0][1] * d[1], u[1] + g[1][0] * d[0] + g[1][1] * d[1]], g))
     }
 }
 

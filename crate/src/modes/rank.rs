@@ -6,6 +6,10 @@
 //! aspect ratio, with the paper's cubic approximation
 //! ω(β) ≈ 0.56β³ − 0.95β² + 1.82β + 1.43 (from memory; 2.858 at β = 1, the paper's value
 //! for square matrices).
+//!
+//! Failure mode: on noise-free data whose rank exceeds half the columns, the median is a
+//! signal value and the threshold cuts signal (seen on an exact rank-8, 15-column test):
+//! use `Energy` or `Fixed` for clean synthetic data.
 
 use super::ModesError;
 

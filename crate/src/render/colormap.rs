@@ -70,13 +70,12 @@ impl fmt::Display for ColormapKind {
 impl FromStr for ColormapKind {
     type Err = String;
     fn from_str(s: &str) -> Result<Self, String> {
-        ColormapKind::ALL
-            .into_iter()
-            .find(|k| k.name().eq_ignore_ascii_case(s.trim()))
-            .ok_or_else(|| {
+        ColormapKind::ALL.into_iter().find(|k| k.name().eq_ignore_ascii_case(s.trim())).ok_or_else(
+            || {
                 let names: Vec<_> = ColormapKind::ALL.iter().map(|k| k.name()).collect();
                 format!("unknown colour map '{s}' (available: {})", names.join(", "))
-            })
+            },
+        )
     }
 }
 
@@ -159,17 +158,9 @@ fn hann_smooth(v: &[f64], width: usize) -> Vec<f64> {
 /// Chroma along a path: the wanted profile, kept to `frac` of the gamut limit, smoothed
 /// over `window` (a fraction of the path), then kept to 97 % of the limit again.
 fn gamut_safe_chroma(want: &[f64], limit: &[f64], frac: f64, window: f64) -> Vec<f64> {
-    let first: Vec<f64> = want
-        .iter()
-        .zip(limit)
-        .map(|(w, l)| w.min(frac * l))
-        .collect();
+    let first: Vec<f64> = want.iter().zip(limit).map(|(w, l)| w.min(frac * l)).collect();
     let width = ((window * DENSE as f64) as usize) | 1;
-    hann_smooth(&first, width)
-        .iter()
-        .zip(limit)
-        .map(|(c, l)| c.min(0.97 * l))
-        .collect()
+    hann_smooth(&first, width).iter().zip(limit).map(|(c, l)| c.min(0.97 * l)).collect()
 }
 
 /// Cumulative Oklab arc length along dense path samples.
@@ -188,11 +179,7 @@ fn arc_length(path: &[[f64; 3]]) -> Vec<f64> {
 fn at_arc(path: &[[f64; 3]], s: &[f64], a: f64) -> [f64; 3] {
     let k = s.partition_point(|&x| x < a).clamp(1, s.len() - 1);
     let span = s[k] - s[k - 1];
-    let f = if span > 0.0 {
-        ((a - s[k - 1]) / span).clamp(0.0, 1.0)
-    } else {
-        0.0
-    };
+    let f = if span > 0.0 { ((a - s[k - 1]) / span).clamp(0.0, 1.0) } else { 0.0 };
     [0, 1, 2].map(|c| path[k - 1][c] + f * (path[k][c] - path[k - 1][c]))
 }
 
@@ -206,17 +193,13 @@ fn tide_lab() -> Vec<[f64; 3]> {
     let l: Vec<f64> = t.iter().map(|t| l0 + (l1 - l0) * t).collect();
     let h: Vec<f64> = t.iter().map(|t| h0 + (h1 - h0) * t).collect();
     let limit: Vec<f64> = l.iter().zip(&h).map(|(&l, &h)| max_chroma(l, h)).collect();
-    let want: Vec<f64> = t
-        .iter()
-        .map(|t| 0.05 + 0.11 * (std::f64::consts::PI * t).sin().powf(0.7))
-        .collect();
+    let want: Vec<f64> =
+        t.iter().map(|t| 0.05 + 0.11 * (std::f64::consts::PI * t).sin().powf(0.7)).collect();
     let c = gamut_safe_chroma(&want, &limit, 0.88, 0.08);
     let path: Vec<[f64; 3]> = (0..DENSE).map(|i| from_lch(l[i], c[i], h[i])).collect();
     let s = arc_length(&path);
     let total = s[DENSE - 1];
-    (0..LUT_SIZE)
-        .map(|i| at_arc(&path, &s, total * i as f64 / (LUT_SIZE - 1) as f64))
-        .collect()
+    (0..LUT_SIZE).map(|i| at_arc(&path, &s, total * i as f64 / (LUT_SIZE - 1) as f64)).collect()
 }
 
 /// The diverging map's design: one half-path from the neutral centre (L = 0.97, no chroma)
@@ -229,10 +212,8 @@ fn eddy_lab() -> Vec<[f64; 3]> {
     let (h_neg, h_pos) = (255f64.to_radians(), 32f64.to_radians());
     let u: Vec<f64> = (0..DENSE).map(|i| i as f64 / (DENSE - 1) as f64).collect();
     let l: Vec<f64> = u.iter().map(|u| lc - (lc - le) * u).collect();
-    let limit: Vec<f64> = l
-        .iter()
-        .map(|&l| max_chroma(l, h_neg).min(max_chroma(l, h_pos)))
-        .collect();
+    let limit: Vec<f64> =
+        l.iter().map(|&l| max_chroma(l, h_neg).min(max_chroma(l, h_pos))).collect();
     let want: Vec<f64> = u.iter().map(|u| 0.17 * u.powf(0.8)).collect();
     let mut c = gamut_safe_chroma(&want, &limit, 0.9, 0.06);
     c[0] = 0.0; // the centre is neutral
@@ -267,10 +248,7 @@ mod tests {
     fn all_entries_in_srgb_gamut() {
         for kind in ColormapKind::ALL {
             for (i, &c) in Colormap::get(kind).lab().iter().enumerate() {
-                assert!(
-                    in_srgb_gamut(c, 1e-9),
-                    "{kind} entry {i} {c:?} out of gamut"
-                );
+                assert!(in_srgb_gamut(c, 1e-9), "{kind} entry {i} {c:?} out of gamut");
             }
         }
     }
@@ -305,33 +283,20 @@ mod tests {
                 // two hues; the path itself has a full step there. Check that pair apart.
                 let centre = LUT_SIZE / 2 - 1;
                 let m = mean(&d);
-                assert!(
-                    d[centre] > 0.6 * m && d[centre] <= 1.05 * m,
-                    "{}",
-                    d[centre]
-                );
+                assert!(d[centre] > 0.6 * m && d[centre] <= 1.05 * m, "{}", d[centre]);
                 d.remove(centre);
                 q.remove(centre);
             }
             let m = mean(&d);
             for (i, s) in d.iter().enumerate() {
-                assert!(
-                    (s / m - 1.0).abs() < 0.05,
-                    "{kind} design step {i}: {s} vs {m}"
-                );
+                assert!((s / m - 1.0).abs() < 0.05, "{kind} design step {i}: {s} vs {m}");
             }
             for (i, s) in q.iter().enumerate() {
-                assert!(
-                    s / m > 1.0 / 3.0 && s / m < 3.0,
-                    "{kind} 8-bit step {i}: {s} vs {m}"
-                );
+                assert!(s / m > 1.0 / 3.0 && s / m < 3.0, "{kind} 8-bit step {i}: {s} vs {m}");
             }
             let rms =
                 (q.iter().map(|s| (s / m - 1.0).powi(2)).sum::<f64>() / q.len() as f64).sqrt();
-            assert!(
-                rms < 0.3,
-                "{kind}: 8-bit steps deviate by {rms} (RMS) from the mean"
-            );
+            assert!(rms < 0.3, "{kind}: 8-bit steps deviate by {rms} (RMS) from the mean");
         }
     }
 
@@ -345,23 +310,11 @@ mod tests {
         for i in 0..LUT_SIZE / 2 {
             let (a, b) = (lab[i], lab[LUT_SIZE - 1 - i]);
             assert!((a[0] - b[0]).abs() < 1e-12, "lightness differs at {i}");
-            assert!(
-                (chroma(a) - chroma(b)).abs() < 1e-12,
-                "chroma differs at {i}"
-            );
-            let (pa, pb) = (
-                rgba8_to_oklab(map.rgba()[i]),
-                rgba8_to_oklab(map.rgba()[255 - i]),
-            );
-            assert!(
-                (pa[0] - pb[0]).abs() < 4e-3,
-                "8-bit lightness differs at {i}"
-            );
+            assert!((chroma(a) - chroma(b)).abs() < 1e-12, "chroma differs at {i}");
+            let (pa, pb) = (rgba8_to_oklab(map.rgba()[i]), rgba8_to_oklab(map.rgba()[255 - i]));
+            assert!((pa[0] - pb[0]).abs() < 4e-3, "8-bit lightness differs at {i}");
             if i > 0 {
-                assert!(
-                    lab[i][0] > lab[i - 1][0],
-                    "lightness not rising to centre at {i}"
-                );
+                assert!(lab[i][0] > lab[i - 1][0], "lightness not rising to centre at {i}");
             }
         }
         // Negative side blue (b < 0), positive side red (a > 0).
@@ -381,10 +334,7 @@ mod tests {
                 .iter()
                 .map(|&c| delta_e(c, grey))
                 .fold(f64::INFINITY, f64::min);
-            assert!(
-                nearest > 0.05,
-                "{kind}: mask grey only {nearest} from the map"
-            );
+            assert!(nearest > 0.05, "{kind}: mask grey only {nearest} from the map");
         }
     }
 
@@ -396,9 +346,6 @@ mod tests {
         assert_eq!(Colormap::index(1.0), 255);
         assert_eq!(Colormap::index(7.0), 255);
         assert_eq!("Eddy".parse::<ColormapKind>().unwrap(), ColormapKind::Eddy);
-        assert!("rainbow"
-            .parse::<ColormapKind>()
-            .unwrap_err()
-            .contains("tide, eddy"));
+        assert!("rainbow".parse::<ColormapKind>().unwrap_err().contains("tide, eddy"));
     }
 }

@@ -46,15 +46,9 @@ pub fn format_sig(v: f64, sig: usize) -> String {
     }
     // `{:e}` renormalises when rounding carries (9.9996e-5 → 1.000e-4).
     let text = format!("{:.*e}", sig - 1, v);
-    let (mantissa, exp) = text
-        .split_once('e')
-        .expect("{:e} always writes an exponent");
+    let (mantissa, exp) = text.split_once('e').expect("{:e} always writes an exponent");
     let exp: i32 = exp.parse().expect("{:e} writes an integer exponent");
-    typographic_minus(format!(
-        "{} × 10{}",
-        trim_zeros(mantissa.to_string()),
-        superscript(exp)
-    ))
+    typographic_minus(format!("{} × 10{}", trim_zeros(mantissa.to_string()), superscript(exp)))
 }
 
 /// Count with thousands separated by commas: `76800` → `76,800`.

@@ -20,10 +20,7 @@ impl TimeFormat {
     /// thousandth of the smallest snapshot interval.
     pub fn for_series(s: &Series) -> TimeFormat {
         let unit = s.units().time.symbol().to_string();
-        TimeFormat {
-            decimals: fitting_decimals(s.times()),
-            unit,
-        }
+        TimeFormat { decimals: fitting_decimals(s.times()), unit }
     }
 
     /// The time `t` as a label with its unit, e.g. `0.25 s`.
@@ -42,18 +39,12 @@ pub fn snapshot_label(k: usize, nt: usize) -> String {
 }
 
 fn fitting_decimals(times: &[f64]) -> Option<usize> {
-    let gap = times
-        .windows(2)
-        .map(|w| w[1] - w[0])
-        .fold(f64::INFINITY, f64::min);
+    let gap = times.windows(2).map(|w| w[1] - w[0]).fold(f64::INFINITY, f64::min);
     let tol = if gap.is_finite() {
         1e-3 * gap
     } else {
         // One snapshot: keep six significant digits of it.
-        1e-6 * times
-            .first()
-            .map_or(1.0, |t| t.abs())
-            .max(f64::MIN_POSITIVE)
+        1e-6 * times.first().map_or(1.0, |t| t.abs()).max(f64::MIN_POSITIVE)
     };
     (0..=MAX_DECIMALS).find(|&d| {
         times.iter().all(|&t| {
@@ -88,16 +79,10 @@ mod tests {
 
     #[test]
     fn labels_carry_the_unit() {
-        let f = TimeFormat {
-            decimals: Some(3),
-            unit: "s".into(),
-        };
+        let f = TimeFormat { decimals: Some(3), unit: "s".into() };
         assert_eq!(f.format(0.05), "0.050 s");
         assert_eq!(f.format(-0.0), "0.000 s");
-        let g = TimeFormat {
-            decimals: None,
-            unit: "1".into(),
-        };
+        let g = TimeFormat { decimals: None, unit: "1".into() };
         assert_eq!(g.format(2.5e-10), "2.5 × 10⁻¹⁰");
     }
 }

@@ -70,9 +70,7 @@ pub fn srgb_decode(c: f64) -> f64 {
 
 /// Whether an Oklab colour is displayable in sRGB, allowing `eps` of round-off per channel.
 pub fn in_srgb_gamut(lab: [f64; 3], eps: f64) -> bool {
-    oklab_to_linear_srgb(lab)
-        .iter()
-        .all(|&c| (-eps..=1.0 + eps).contains(&c))
+    oklab_to_linear_srgb(lab).iter().all(|&c| (-eps..=1.0 + eps).contains(&c))
 }
 
 /// Oklab point of lightness `l`, chroma `c` and hue angle `hue` (radians).

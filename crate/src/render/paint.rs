@@ -100,15 +100,7 @@ pub fn quantity_image(
 ) -> Result<Vec<u8>, RenderError> {
     let values = q.compute(s, k)?;
     let valid = valid_cells(s, k);
-    Ok(paint_rgba(
-        &values,
-        &valid,
-        s.nx(),
-        s.ny(),
-        map,
-        range,
-        missing,
-    ))
+    Ok(paint_rgba(&values, &valid, s.nx(), s.ny(), map, range, missing))
 }
 
 #[cfg(test)]
@@ -123,15 +115,7 @@ mod tests {
         let valid = [true, true, false, true, true, true];
         let map = Colormap::get(ColormapKind::Tide);
         let grey = [1, 2, 3, 255];
-        let px = paint_rgba(
-            &values,
-            &valid,
-            3,
-            2,
-            map,
-            ColorRange::new(0.0, 1.0).unwrap(),
-            grey,
-        );
+        let px = paint_rgba(&values, &valid, 3, 2, map, ColorRange::new(0.0, 1.0).unwrap(), grey);
         let lut = map.rgba();
         let at = |r: usize, i: usize| -> [u8; 4] { px[4 * (3 * r + i)..][..4].try_into().unwrap() };
         // Image row 0 is the top of the field (j = 1).
@@ -147,16 +131,8 @@ mod tests {
     fn extent_reaches_half_a_cell_past_the_outer_nodes() {
         use crate::field::Axis;
         let g = Grid {
-            x: Axis {
-                start: 1.0,
-                step: 0.5,
-                n: 5,
-            },
-            y: Axis {
-                start: -1.0,
-                step: 0.25,
-                n: 3,
-            },
+            x: Axis { start: 1.0, step: 0.5, n: 5 },
+            y: Axis { start: -1.0, step: 0.25, n: 3 },
         };
         assert_eq!(image_extent(&g), [0.75, 3.25, -1.125, -0.375]);
     }
@@ -164,12 +140,7 @@ mod tests {
     #[test]
     fn ranges_must_be_ordered_and_finite() {
         assert!(ColorRange::new(0.0, 1.0).is_ok());
-        for (lo, hi) in [
-            (1.0, 1.0),
-            (2.0, 1.0),
-            (f64::NAN, 1.0),
-            (0.0, f64::INFINITY),
-        ] {
+        for (lo, hi) in [(1.0, 1.0), (2.0, 1.0), (f64::NAN, 1.0), (0.0, f64::INFINITY)] {
             let e = ColorRange::new(lo, hi).unwrap_err().to_string();
             assert!(e.contains("low < high"), "{e}");
         }

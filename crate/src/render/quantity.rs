@@ -70,13 +70,12 @@ impl Quantity {
 impl FromStr for Quantity {
     type Err = RenderError;
     fn from_str(name: &str) -> Result<Self, RenderError> {
-        Quantity::ALL
-            .into_iter()
-            .find(|q| q.id().eq_ignore_ascii_case(name.trim()))
-            .ok_or_else(|| RenderError::UnknownQuantity {
+        Quantity::ALL.into_iter().find(|q| q.id().eq_ignore_ascii_case(name.trim())).ok_or_else(
+            || RenderError::UnknownQuantity {
                 name: name.to_string(),
                 available: Quantity::ALL.map(Quantity::id).join(", "),
-            })
+            },
+        )
     }
 }
 
@@ -85,21 +84,14 @@ pub fn check_snapshot(s: &Series, k: usize) -> Result<(), RenderError> {
     if k < s.nt() {
         Ok(())
     } else {
-        Err(RenderError::SnapshotOutOfRange {
-            index: k,
-            nt: s.nt(),
-        })
+        Err(RenderError::SnapshotOutOfRange { index: k, nt: s.nt() })
     }
 }
 
 /// Cells of snapshot `k` that hold data: not masked and not a missing vector. `(ny, nx)`.
 pub fn valid_cells(s: &Series, k: usize) -> Vec<bool> {
     let gaps = s.gaps_at(k);
-    s.mask()
-        .iter()
-        .enumerate()
-        .map(|(c, &m)| !m && gaps.is_none_or(|g| !g[c]))
-        .collect()
+    s.mask().iter().enumerate().map(|(c, &m)| !m && gaps.is_none_or(|g| !g[c])).collect()
 }
 
 #[cfg(test)]
@@ -131,9 +123,6 @@ mod tests {
         // |(3, 4)| = 5 [D].
         assert_eq!(Quantity::Speed.compute(&s, 0).unwrap(), vec![5.0; 4]);
         let e = Quantity::Speed.compute(&s, 1).unwrap_err().to_string();
-        assert!(
-            e.contains("snapshot 1 does not exist") && e.contains("0 to 0"),
-            "{e}"
-        );
+        assert!(e.contains("snapshot 1 does not exist") && e.contains("0 to 0"), "{e}");
     }
 }

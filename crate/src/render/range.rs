@@ -57,9 +57,7 @@ fn snapshots(s: &Series, scope: RangeScope) -> Result<Vec<usize>, RenderError> {
         RangeScope::Series => {
             let last = (s.nt() - 1) as f64;
             let m = (SERIES_SAMPLE - 1) as f64;
-            Ok((0..SERIES_SAMPLE)
-                .map(|i| (i as f64 * last / m).round() as usize)
-                .collect())
+            Ok((0..SERIES_SAMPLE).map(|i| (i as f64 * last / m).round() as usize).collect())
         }
     }
 }
@@ -79,12 +77,7 @@ pub fn default_range(
     for k in snapshots(s, scope)? {
         let f = q.compute(s, k)?;
         let valid = valid_cells(s, k);
-        pooled.extend(
-            f.iter()
-                .zip(&valid)
-                .filter(|(_, &ok)| ok)
-                .map(|(v, _)| v.abs()),
-        );
+        pooled.extend(f.iter().zip(&valid).filter(|(_, &ok)| ok).map(|(v, _)| v.abs()));
     }
     let mut top = percentile(&mut pooled, ROBUST_PERCENTILE).unwrap_or(0.0);
     if top <= 0.0 {
@@ -93,11 +86,7 @@ pub fn default_range(
     if top <= 0.0 {
         top = 1.0;
     }
-    Ok(if q.is_signed() {
-        (-top, top)
-    } else {
-        (0.0, top)
-    })
+    Ok(if q.is_signed() { (-top, top) } else { (0.0, top) })
 }
 
 #[cfg(test)]
@@ -106,22 +95,15 @@ mod tests {
     use crate::field::SeriesParts;
 
     fn sample() -> Vec<f32> {
-        (0..500)
-            .map(|i| ((i * 37) % 101) as f32 * 0.25 - 3.0)
-            .collect()
+        (0..500).map(|i| ((i * 37) % 101) as f32 * 0.25 - 3.0).collect()
     }
 
     /// Reference: numpy 2.4.6 `np.percentile(v, p)` (default 'linear' method) on the same
     /// values, computed for this test.
     #[test]
     fn percentile_matches_numpy() {
-        let cases = [
-            (99.0, 21.752_499_999_999_998),
-            (50.0, 9.5),
-            (0.0, -3.0),
-            (100.0, 22.0),
-            (12.5, 0.0),
-        ];
+        let cases =
+            [(99.0, 21.752_499_999_999_998), (50.0, 9.5), (0.0, -3.0), (100.0, 22.0), (12.5, 0.0)];
         for (p, want) in cases {
             let got = percentile(&mut sample(), p).unwrap();
             assert!((got - want).abs() < 1e-9, "p{p}: {got} vs numpy {want}");
@@ -165,33 +147,21 @@ mod tests {
     fn ranges_follow_the_field_and_scope() {
         let s = rotation(3, 0.5);
         let (lo, hi) = default_range(&s, Quantity::Vorticity, RangeScope::Snapshot(0)).unwrap();
-        assert!(
-            (lo + 1.0).abs() < 1e-6 && (hi - 1.0).abs() < 1e-6,
-            "{lo} {hi}"
-        );
+        assert!((lo + 1.0).abs() < 1e-6 && (hi - 1.0).abs() < 1e-6, "{lo} {hi}");
         // Over the series, the fastest snapshot (Ω = 1.5) sets the range: ±3.
         let (lo, hi) = default_range(&s, Quantity::Vorticity, RangeScope::Series).unwrap();
-        assert!(
-            (lo + 3.0).abs() < 1e-5 && (hi - 3.0).abs() < 1e-5,
-            "{lo} {hi}"
-        );
+        assert!((lo + 3.0).abs() < 1e-5 && (hi - 3.0).abs() < 1e-5, "{lo} {hi}");
         let (lo, hi) = default_range(&s, Quantity::Speed, RangeScope::Snapshot(0)).unwrap();
         let r_max = 0.5 * 4f64.hypot(3.0);
         assert_eq!(lo, 0.0);
-        assert!(
-            hi > 0.8 * r_max && hi <= r_max + 1e-6,
-            "{hi} vs max {r_max}"
-        );
+        assert!(hi > 0.8 * r_max && hi <= r_max + 1e-6, "{hi} vs max {r_max}");
         assert!(default_range(&s, Quantity::Speed, RangeScope::Snapshot(3)).is_err());
     }
 
     #[test]
     fn zero_field_still_gets_a_usable_range() {
         let s = rotation(1, 0.0);
-        assert_eq!(
-            default_range(&s, Quantity::Speed, RangeScope::Series).unwrap(),
-            (0.0, 1.0)
-        );
+        assert_eq!(default_range(&s, Quantity::Speed, RangeScope::Series).unwrap(), (0.0, 1.0));
     }
 
     #[test]

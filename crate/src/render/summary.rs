@@ -25,10 +25,7 @@ fn row(key: &'static str, label: &'static str, value: String) -> SummaryRow {
 }
 
 fn percent(part: usize, whole: usize) -> String {
-    format!(
-        "{} %",
-        format_sig(100.0 * part as f64 / whole.max(1) as f64, 2)
-    )
+    format!("{} %", format_sig(100.0 * part as f64 / whole.max(1) as f64, 2))
 }
 
 fn sources_text(sources: &[String]) -> String {
@@ -47,10 +44,7 @@ fn dt_text(f: &Summary) -> String {
     if f.dt_nonuniformity <= UNIFORM_DT_TOLERANCE {
         format!("{mean}, uniform")
     } else {
-        format!(
-            "mean {mean}, steps vary by up to {} %",
-            format_sig(100.0 * f.dt_nonuniformity, 2)
-        )
+        format!("mean {mean}, steps vary by up to {} %", format_sig(100.0 * f.dt_nonuniformity, 2))
     }
 }
 
@@ -141,11 +135,7 @@ pub fn summary(s: &Series, sources: &[String]) -> Vec<SummaryRow> {
                 with_unit(format_sig(f.speed_max, 3), &f.velocity_unit)
             ),
         ),
-        row(
-            "memory",
-            "Memory",
-            format!("{} MB", format_sig(f.bytes as f64 / 1e6, 3)),
-        ),
+        row("memory", "Memory", format!("{} MB", format_sig(f.bytes as f64 / 1e6, 3))),
     ]
 }
 
@@ -174,10 +164,7 @@ mod tests {
             v: vec![4.0; n],
             mask: Some(mask),
             nan_is_gap: true,
-            units: Units {
-                length: LengthUnit::Mm,
-                time: TimeUnit::Ms,
-            },
+            units: Units { length: LengthUnit::Mm, time: TimeUnit::Ms },
             ..Default::default()
         })
         .unwrap();

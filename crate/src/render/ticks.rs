@@ -56,10 +56,7 @@ fn nice_step(lo: f64, hi: f64, target: usize) -> f64 {
 pub fn nice_ticks(lo: f64, hi: f64, target: usize) -> Result<Ticks, RenderError> {
     let range = ColorRange::new(lo, hi)?;
     if target < 2 {
-        return Err(RenderError::TooFewTicks {
-            min: 2,
-            got: target,
-        });
+        return Err(RenderError::TooFewTicks { min: 2, got: target });
     }
     let step = nice_step(lo, hi, target);
     let top = lo.abs().max(hi.abs()).log10().floor() as i32;
@@ -75,20 +72,12 @@ pub fn nice_ticks(lo: f64, hi: f64, target: usize) -> Result<Ticks, RenderError>
             let value = k as f64 * step;
             // `+ 0.0` turns −0 into 0 so zero is never labelled "−0".
             let scaled = format!("{:.*}", decimals, value / unit + 0.0);
-            let label = if scaled
-                .trim_start_matches('-')
-                .trim_matches(['0', '.'])
-                .is_empty()
-            {
+            let label = if scaled.trim_start_matches('-').trim_matches(['0', '.']).is_empty() {
                 "0".to_string()
             } else {
                 typographic_minus(scaled)
             };
-            Tick {
-                value,
-                frac: range.frac(value).clamp(0.0, 1.0),
-                label,
-            }
+            Tick { value, frac: range.frac(value).clamp(0.0, 1.0), label }
         })
         .collect();
     Ok(Ticks {
@@ -138,13 +127,7 @@ mod tests {
     /// is within that factor, plus one for the end points).
     #[test]
     fn general_properties_hold() {
-        for &(lo, hi) in &[
-            (0.0, 0.9),
-            (-47.0, 47.0),
-            (3.3, 3.31),
-            (-1e-7, 2e-6),
-            (0.0, 1.0),
-        ] {
+        for &(lo, hi) in &[(0.0, 0.9), (-47.0, 47.0), (3.3, 3.31), (-1e-7, 2e-6), (0.0, 1.0)] {
             for target in [3usize, 5, 8] {
                 let t = nice_ticks(lo, hi, target).unwrap();
                 let n = t.ticks.len() as f64;
@@ -157,10 +140,7 @@ mod tests {
                     let m = step / 10f64.powf(step.log10().floor());
                     assert!([1.0, 2.0, 5.0, 10.0].iter().any(|x| (m - x).abs() < 1e-6));
                 }
-                assert!(t
-                    .ticks
-                    .iter()
-                    .all(|k| k.value >= lo - 1e-12 && k.value <= hi + 1e-12));
+                assert!(t.ticks.iter().all(|k| k.value >= lo - 1e-12 && k.value <= hi + 1e-12));
             }
         }
         assert!(nice_ticks(1.0, 1.0, 5).is_err());

@@ -21,8 +21,7 @@ pub struct Dataset {
 
 /// An optional text option: absent, empty or `auto` means "as the files say".
 fn given(opt: Option<String>) -> Option<String> {
-    opt.map(|s| s.trim().to_string())
-        .filter(|s| !s.is_empty() && !s.eq_ignore_ascii_case("auto"))
+    opt.map(|s| s.trim().to_string()).filter(|s| !s.is_empty() && !s.eq_ignore_ascii_case("auto"))
 }
 
 fn quantity(name: &str) -> Result<Quantity, JsError> {
@@ -68,19 +67,13 @@ impl Dataset {
         }
         if let Some(d) = given(dt) {
             let value: f64 = d.parse().map_err(|_| {
-                JsError::new(&format!(
-                    "the time between snapshots must be a number, not '{d}'"
-                ))
+                JsError::new(&format!("the time between snapshots must be a number, not '{d}'"))
             })?;
             opts.dt = Some(value);
         }
         let series = read_series(&input, &opts).map_err(js_error)?;
         let times = TimeFormat::for_series(&series);
-        Ok(Dataset {
-            series,
-            sources: input.into_iter().map(|f| f.name).collect(),
-            times,
-        })
+        Ok(Dataset { series, sources: input.into_iter().map(|f| f.name).collect(), times })
     }
 
     #[wasm_bindgen(getter)]

@@ -9,7 +9,7 @@ use std::path::PathBuf;
 pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
-    /// Where to write the cleaned series (.npz, or .vti / .csv: one file per snapshot).
+    /// Where to write the cleaned series (.npz; a folder name without extension for .npy files; or .vti / .csv: one file per snapshot).
     #[arg(long, short, value_name = "FILE")]
     pub out: PathBuf,
     /// Normalized-residual threshold above which a vector is an outlier.

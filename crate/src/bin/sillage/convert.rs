@@ -8,8 +8,9 @@ use std::path::PathBuf;
 pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
-    /// Output file: .npz (canonical layout, SI units), .vti or .csv (one file per snapshot,
-    /// numbered stem_0000.vti, … when there are several).
+    /// Output file: .npz (canonical layout, SI units), a folder name without extension (one
+    /// .npy file per canonical array), .vti or .csv (one file per snapshot, numbered
+    /// stem_0000.vti, … when there are several).
     #[arg(long, short, value_name = "FILE")]
     pub out: PathBuf,
 }

@@ -1,12 +1,14 @@
 //! `sillage ftle`: the FTLE field of one start time over a tracer grid, computed on all
-//! cores, written as .npz (and .vti on request).
+//! cores, written as .npz (and .vti, and the ridge polylines as .json or .csv, on request).
 
 use crate::input::InputArgs;
 use crate::lagrangian_args::LagrangianArgs;
 use sillage::field::{Grid, Units};
 use sillage::io::{write_arrays_npz, write_vti, NpyArray, NpyData};
 use sillage::lagrangian::parallel::ftle_field_parallel;
-use sillage::lagrangian::{FtleOptions, FtleRows, GradientRoute, GriddedField};
+use sillage::lagrangian::{
+    extract_ridges, FtleOptions, FtleRows, GradientRoute, GriddedField, Ridge, RidgeOptions,
+};
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 
@@ -31,6 +33,26 @@ pub struct Args {
     /// Also write the maps as VTK image data (.vti).
     #[arg(long, value_name = "FILE.vti")]
     pub vti: Option<PathBuf>,
+    /// Also extract the FTLE ridges (second-derivative ridges of Shadden, Lekien & Marsden
+    /// 2005, default thresholds) and write them as polylines in SI units: .json (with the
+    /// units, start time, horizon and thresholds) or .csv (ridge, point, x, y).
+    #[arg(long, value_name = "FILE.json|FILE.csv")]
+    pub ridges: Option<PathBuf>,
+}
+
+/// File formats of `--ridges`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum RidgeFormat {
+    Json,
+    Csv,
+}
+
+fn ridge_format(path: &Path) -> Result<RidgeFormat, String> {
+    match path.extension().and_then(|e| e.to_str()).map(str::to_lowercase).as_deref() {
+        Some("json") => Ok(RidgeFormat::Json),
+        Some("csv") => Ok(RidgeFormat::Csv),
+        _ => Err(format!("--ridges '{}' must end in .json or .csv", path.display())),
+    }
 }
 
 #[derive(clap::ValueEnum, Clone, Copy, Debug)]
@@ -46,6 +68,7 @@ pub fn run(args: Args) -> Result<(), String> {
     {
         return Err(format!("--out '{}' must end in .npz", args.out.display()));
     }
+    let ridge_format = args.ridges.as_deref().map(ridge_format).transpose()?;
     let series = args.input.read()?;
     let la = &args.lagrangian;
     let advect = la.advect(&series)?;
@@ -84,7 +107,70 @@ pub fn run(args: Args) -> Result<(), String> {
         write(path, &bytes)?;
         println!("wrote {}", path.display());
     }
+    if let (Some(path), Some(format)) = (&args.ridges, ridge_format) {
+        let opts = RidgeOptions::default();
+        let mut ridges = extract_ridges(&r, &opts);
+        ridges.sort_by(|a, b| b.length().total_cmp(&a.length()));
+        let units = series.units();
+        let bytes = match format {
+            RidgeFormat::Json => ridges_json(&ridges, &opts, &units, o.advect.t0, r.horizon),
+            RidgeFormat::Csv => ridges_csv(&ridges, &units),
+        };
+        write(path, bytes.as_bytes())?;
+        let total: f64 = ridges.iter().map(Ridge::length).sum();
+        println!(
+            "wrote {} ({} ridges, total length {total:.4} {})",
+            path.display(),
+            ridges.len(),
+            units.length.symbol()
+        );
+    }
     Ok(())
+}
+
+/// The ridges as JSON: units, when and how they were found, then one object per ridge
+/// (longest first) with its length and its points `[x, y]`.
+fn ridges_json(
+    ridges: &[Ridge],
+    opts: &RidgeOptions,
+    units: &Units,
+    t0: f64,
+    horizon: f64,
+) -> String {
+    let doc = serde_json::json!({
+        "description": "FTLE ridges: polylines where the derivative of the FTLE across the \
+            ridge vanishes and its curvature is strongly negative (Shadden, Lekien & Marsden \
+            2005, Physica D 212:271-304); a heuristic for the most repelling (forward) or \
+            attracting (backward) material lines",
+        "length_unit": units.length.symbol(),
+        "time_unit": units.time.symbol(),
+        "t0": t0,
+        "horizon": horizon,
+        "options": opts,
+        "count": ridges.len(),
+        "ridges": ridges.iter().map(|r| serde_json::json!({
+            "length": r.length(),
+            "points": r.points,
+        })).collect::<Vec<_>>(),
+    });
+    let mut text = serde_json::to_string_pretty(&doc).expect("plain values serialise");
+    text.push('\n');
+    text
+}
+
+/// The ridges as CSV, one row per point: ridge number (longest first, from 0), point
+/// number along the ridge, x and y (the header names the unit).
+fn ridges_csv(ridges: &[Ridge], units: &Units) -> String {
+    let mut text = match units.length.symbol() {
+        "1" => "ridge,point,x,y\n".to_string(),
+        unit => format!("ridge,point,x_{unit},y_{unit}\n"),
+    };
+    for (k, r) in ridges.iter().enumerate() {
+        for (m, p) in r.points.iter().enumerate() {
+            text.push_str(&format!("{k},{m},{},{}\n", p[0], p[1]));
+        }
+    }
+    text
 }
 
 fn summarise(r: &FtleRows, secs: f64, units: &Units) {

@@ -1,13 +1,15 @@
 //! Writing a series to the format chosen by the output path's extension.
 
 use sillage::field::Series;
-use sillage::io::{write_csv_snapshot, write_npz, write_series_vti};
+use sillage::io::{write_csv_snapshot, write_npy_set, write_npz, write_series_vti};
 use std::path::{Path, PathBuf};
 
 /// Output formats of a series.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Format {
     Npz,
+    /// A folder of `.npy` files, one per canonical array.
+    NpySet,
     Vti,
     Csv,
 }
@@ -18,8 +20,10 @@ pub fn format_of(path: &Path) -> Result<Format, String> {
         Some("npz") => Ok(Format::Npz),
         Some("vti") => Ok(Format::Vti),
         Some("csv") => Ok(Format::Csv),
+        None => Ok(Format::NpySet),
         _ => Err(format!(
-            "cannot tell the output format from '{}': use a name ending in .npz, .vti or .csv",
+            "cannot tell the output format from '{}': use a name ending in .npz, .vti or .csv, \
+             or a folder name without extension for a set of .npy files",
             path.display()
         )),
     }
@@ -44,7 +48,8 @@ fn write(path: &Path, bytes: &[u8]) -> Result<(), String> {
     std::fs::write(path, bytes).map_err(|e| format!("cannot write '{}': {e}", path.display()))
 }
 
-/// Writes `series` to `path`: one .npz, or one .vti / .csv per snapshot (numbered
+/// Writes `series` to `path`: one .npz, a folder of .npy files (a path without extension),
+/// or one .vti / .csv per snapshot (numbered
 /// `stem_0000.vti`, … when there is more than one). Returns the files written.
 pub fn write_series(series: &Series, path: &Path) -> Result<Vec<PathBuf>, String> {
     let nt = series.nt();
@@ -52,6 +57,15 @@ pub fn write_series(series: &Series, path: &Path) -> Result<Vec<PathBuf>, String
         Format::Npz => {
             write(path, &write_npz(series))?;
             Ok(vec![path.to_path_buf()])
+        }
+        Format::NpySet => {
+            let mut written = Vec::new();
+            for (name, bytes) in write_npy_set(series) {
+                let p = path.join(name);
+                write(&p, &bytes)?;
+                written.push(p);
+            }
+            Ok(written)
         }
         Format::Vti => {
             let files = write_series_vti(series);
@@ -96,5 +110,6 @@ mod tests {
         assert_eq!(numbered(Path::new("a.csv"), 0, 1), PathBuf::from("a.csv"));
         assert_eq!(format_of(Path::new("x.NPZ")).unwrap(), Format::Npz);
         assert!(format_of(Path::new("x.h5")).unwrap_err().contains(".npz, .vti or .csv"));
+        assert_eq!(format_of(Path::new("out/arrays")).unwrap(), Format::NpySet);
     }
 }

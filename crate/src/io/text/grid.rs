@@ -19,11 +19,7 @@ const MAX_FILL: usize = 4;
 /// The axis through `values` and the axis index of every value.
 pub(crate) fn place(name: &'static str, values: &[f64]) -> Result<(Axis, Vec<usize>), FieldError> {
     if let Some((index, &value)) = values.iter().enumerate().find(|(_, v)| !v.is_finite()) {
-        return Err(FieldError::NonFiniteCoordinate {
-            axis: name,
-            index,
-            value,
-        });
+        return Err(FieldError::NonFiniteCoordinate { axis: name, index, value });
     }
     let mut sorted = values.to_vec();
     sorted.sort_by(f64::total_cmp);
@@ -40,15 +36,9 @@ pub(crate) fn place(name: &'static str, values: &[f64]) -> Result<(Axis, Vec<usi
         }
     }
     if distinct.len() < 2 {
-        return Err(FieldError::AxisTooShort {
-            axis: name,
-            len: distinct.len(),
-        });
+        return Err(FieldError::AxisTooShort { axis: name, len: distinct.len() });
     }
-    let min_gap = distinct
-        .windows(2)
-        .map(|w| w[1] - w[0])
-        .fold(f64::INFINITY, f64::min);
+    let min_gap = distinct.windows(2).map(|w| w[1] - w[0]).fold(f64::INFINITY, f64::min);
     let intervals = ((hi - lo) / min_gap).round();
     let fits = intervals.is_finite() && (intervals as usize) < MAX_FILL * distinct.len() && {
         let step = (hi - lo) / intervals;
@@ -59,11 +49,7 @@ pub(crate) fn place(name: &'static str, values: &[f64]) -> Result<(Axis, Vec<usi
     };
     let axis = if fits {
         let n = intervals as usize + 1;
-        Axis {
-            start: lo,
-            step: (hi - lo) / intervals,
-            n,
-        }
+        Axis { start: lo, step: (hi - lo) / intervals, n }
     } else {
         // Let the grid check explain what is wrong with the distinct values.
         let (axis, _) = Axis::from_coords(name, &distinct)?;
@@ -106,10 +92,7 @@ mod tests {
     fn non_uniform_and_degenerate_axes() {
         let stretched: Vec<f64> = (0..20).map(|i| 1.1f64.powi(i)).collect();
         let e = place("x", &stretched).unwrap_err();
-        assert!(
-            matches!(e, FieldError::NonUniformAxis { axis: "x", .. }),
-            "{e}"
-        );
+        assert!(matches!(e, FieldError::NonUniformAxis { axis: "x", .. }), "{e}");
         assert!(matches!(
             place("y", &[3.0, 3.0, 3.0]).unwrap_err(),
             FieldError::AxisTooShort { axis: "y", len: 1 }

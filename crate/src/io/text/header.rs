@@ -45,17 +45,10 @@ pub(crate) struct Column {
 fn split_decoration(label: &str) -> (String, Option<String>) {
     match label.find(['[', '(']) {
         Some(open) => {
-            let close = if label.as_bytes()[open] == b'[' {
-                ']'
-            } else {
-                ')'
-            };
+            let close = if label.as_bytes()[open] == b'[' { ']' } else { ')' };
             let inner = &label[open + 1..];
             let unit = inner.rfind(close).map_or(inner, |e| &inner[..e]);
-            (
-                label[..open].trim().to_string(),
-                Some(unit.trim().to_string()),
-            )
+            (label[..open].trim().to_string(), Some(unit.trim().to_string()))
         }
         None => (label.trim().to_string(), None),
     }
@@ -92,11 +85,7 @@ fn role_of(name: &str) -> Option<Role> {
 pub(crate) fn column(label: &str) -> Column {
     let label = label.trim().trim_matches(['"', '\'']).trim().to_string();
     let (name, unit) = split_decoration(&label);
-    Column {
-        role: role_of(&name),
-        unit,
-        label,
-    }
+    Column { role: role_of(&name), unit, label }
 }
 
 /// Whitespace-separated headers split `x [mm]` into two tokens: glue decorations back on.
@@ -116,10 +105,7 @@ pub(crate) fn merge_decorations(tokens: Vec<&str>) -> Vec<String> {
 
 /// A decoration that says "no unit".
 fn is_unitless(s: &str) -> bool {
-    matches!(
-        s.trim(),
-        "" | "-" | "1" | "none" | "unitless" | "dimensionless"
-    )
+    matches!(s.trim(), "" | "-" | "1" | "none" | "unitless" | "dimensionless")
 }
 
 /// Length unit of a coordinate decoration.
@@ -204,11 +190,8 @@ mod tests {
 
     #[test]
     fn whitespace_headers_keep_their_units() {
-        let merged = merge_decorations(
-            "x [mm] y [mm] u [m/s] v(m/s) valid"
-                .split_whitespace()
-                .collect(),
-        );
+        let merged =
+            merge_decorations("x [mm] y [mm] u [m/s] v(m/s) valid".split_whitespace().collect());
         assert_eq!(merged, ["x [mm]", "y [mm]", "u [m/s]", "v(m/s)", "valid"]);
     }
 
@@ -220,10 +203,7 @@ mod tests {
         assert_eq!(velocity_unit("mm/ms"), Ok(VelocityUnit::Of(L::Mm, T::Ms)));
         assert_eq!(velocity_unit("m s^-1"), Ok(VelocityUnit::Of(L::M, T::S)));
         assert_eq!(velocity_unit("m·s⁻¹"), Ok(VelocityUnit::Of(L::M, T::S)));
-        assert_eq!(
-            velocity_unit("1/s"),
-            Ok(VelocityUnit::Of(L::Unitless, T::S))
-        );
+        assert_eq!(velocity_unit("1/s"), Ok(VelocityUnit::Of(L::Unitless, T::S)));
         assert_eq!(velocity_unit("m"), Ok(VelocityUnit::Of(L::M, T::Unitless)));
         assert_eq!(velocity_unit("-"), Ok(VelocityUnit::Plain));
         assert!(velocity_unit("px/frame").unwrap_err().contains("px"));

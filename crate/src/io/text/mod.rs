@@ -48,14 +48,9 @@ struct TableUnits {
 }
 
 fn units_of(file: &str, t: &Table, opts: &ReadOptions) -> Result<TableUnits, IoError> {
-    let layout = |reason: String| IoError::Layout {
-        file: file.into(),
-        reason,
-    };
-    let decoration = |role: Role| {
-        t.column_of(role)
-            .and_then(|c| c.unit.clone().map(|u| (c.label.clone(), u)))
-    };
+    let layout = |reason: String| IoError::Layout { file: file.into(), reason };
+    let decoration =
+        |role: Role| t.column_of(role).and_then(|c| c.unit.clone().map(|u| (c.label.clone(), u)));
     let length = match opts.length_unit {
         Some(l) => l,
         None => {
@@ -132,10 +127,7 @@ fn units_of(file: &str, t: &Table, opts: &ReadOptions) -> Result<TableUnits, IoE
         }
         _ => 1.0,
     };
-    Ok(TableUnits {
-        units: Units { length, time },
-        velocity_factor,
-    })
+    Ok(TableUnits { units: Units { length, time }, velocity_factor })
 }
 
 /// The time of a table from its `t` column, which must be constant.
@@ -173,10 +165,7 @@ fn odd_one_out(counts: &[usize]) -> Option<(usize, usize)> {
         }
         k += run;
     }
-    counts
-        .iter()
-        .position(|&c| c != best.0)
-        .map(|i| (i, best.0))
+    counts.iter().position(|&c| c != best.0).map(|i| (i, best.0))
 }
 
 /// Reads text tables, one snapshot per file, into a series.
@@ -254,9 +243,8 @@ pub(crate) fn read_text_series(
             let node = if k == 0 {
                 ix[r] + nx * iy[r]
             } else {
-                node_of(&ax, &ay, table.x[r], table.y[r])
-                    .filter(|&n| !mask[n])
-                    .ok_or_else(|| IoError::Line {
+                node_of(&ax, &ay, table.x[r], table.y[r]).filter(|&n| !mask[n]).ok_or_else(
+                    || IoError::Line {
                         file: name.clone(),
                         line: table.lines[r],
                         reason: format!(
@@ -264,7 +252,8 @@ pub(crate) fn read_text_series(
                              file '{first_name}'; every file must list the same points",
                             table.x[r], table.y[r]
                         ),
-                    })?
+                    },
+                )?
             };
             if seen[node] {
                 return Err(IoError::Line {
@@ -287,11 +276,8 @@ pub(crate) fn read_text_series(
     }
 
     let t = if opts.dt.is_some() || file_times.iter().all(Option::is_none) {
-        let what = if nt == 1 {
-            format!("'{}'", order[0].name)
-        } else {
-            format!("the {nt} text files")
-        };
+        let what =
+            if nt == 1 { format!("'{}'", order[0].name) } else { format!("the {nt} text files") };
         times_from_options(&what, nt, opts)?
     } else {
         let mut t = Vec::with_capacity(nt);
@@ -327,11 +313,8 @@ pub(crate) fn read_text_series(
         nan_is_gap: true,
         units: units.units,
     };
-    let what = if nt == 1 {
-        format!("'{}'", order[0].name)
-    } else {
-        format!("the {nt} text files")
-    };
+    let what =
+        if nt == 1 { format!("'{}'", order[0].name) } else { format!("the {nt} text files") };
     Series::from_parts(parts).map_err(|e| IoError::field(what, e))
 }
 

@@ -82,10 +82,7 @@ fn is_comment(line: &str) -> bool {
 fn split(line: &str, sep: Sep) -> Vec<&str> {
     match sep {
         Sep::Whitespace => line.split_whitespace().collect(),
-        Sep::Char(c) => line
-            .split(c)
-            .map(|f| f.trim().trim_matches('"').trim())
-            .collect(),
+        Sep::Char(c) => line.split(c).map(|f| f.trim().trim_matches('"').trim()).collect(),
     }
 }
 
@@ -153,9 +150,7 @@ fn is_data(cells: &[&str], decimal_comma: bool) -> bool {
 
 /// Whether a header names all of x, y, u and v.
 fn names_all(columns: &[Column]) -> bool {
-    [Role::X, Role::Y, Role::U, Role::V]
-        .iter()
-        .all(|r| columns.iter().any(|c| c.role == Some(*r)))
+    [Role::X, Role::Y, Role::U, Role::V].iter().all(|r| columns.iter().any(|c| c.role == Some(*r)))
 }
 
 /// Header cells of a line (comment markers removed).
@@ -172,19 +167,14 @@ pub(crate) fn parse_table(file: &str, bytes: &[u8]) -> Result<Table, IoError> {
     if bytes.is_empty() {
         return Err(IoError::EmptyFile { file: file.into() });
     }
-    let layout = |reason: String| IoError::Layout {
-        file: file.into(),
-        reason,
-    };
+    let layout = |reason: String| IoError::Layout { file: file.into(), reason };
     let text = decode(bytes);
     let lines: Vec<&str> = text.lines().collect();
     let content: Vec<usize> = (0..lines.len())
         .filter(|&i| !lines[i].trim().is_empty() && !is_comment(lines[i]))
         .collect();
     if content.is_empty() {
-        return Err(layout(
-            "holds no data: every line is blank or a comment".into(),
-        ));
+        return Err(layout("holds no data: every line is blank or a comment".into()));
     }
     // Data lines are the bulk of the file and sit at its end: sample them there.
     let sample: Vec<&str> = content.iter().rev().take(20).map(|&i| lines[i]).collect();
@@ -204,16 +194,12 @@ pub(crate) fn parse_table(file: &str, bytes: &[u8]) -> Result<Table, IoError> {
         .rev()
         .filter(|&i| !lines[i].trim().is_empty())
         .find(|&i| {
-            let cols: Vec<Column> = header_labels(lines[i], sep)
-                .iter()
-                .map(|l| column(l))
-                .collect();
+            let cols: Vec<Column> =
+                header_labels(lines[i], sep).iter().map(|l| column(l)).collect();
             names_all(&cols)
         })
         .or_else(|| {
-            (0..first_data)
-                .rev()
-                .find(|&i| !lines[i].trim().is_empty() && !is_comment(lines[i]))
+            (0..first_data).rev().find(|&i| !lines[i].trim().is_empty() && !is_comment(lines[i]))
         })
         .ok_or_else(|| {
             layout(format!(
@@ -224,17 +210,10 @@ pub(crate) fn parse_table(file: &str, bytes: &[u8]) -> Result<Table, IoError> {
         })?;
     let labels = header_labels(lines[header_line], sep);
     let columns: Vec<Column> = labels.iter().map(|l| column(l)).collect();
-    let found = || {
-        labels
-            .iter()
-            .map(|l| format!("'{l}'"))
-            .collect::<Vec<_>>()
-            .join(", ")
-    };
+    let found = || labels.iter().map(|l| format!("'{l}'")).collect::<Vec<_>>().join(", ");
     let find = |role: Role| -> Result<Option<usize>, IoError> {
-        let hits: Vec<usize> = (0..columns.len())
-            .filter(|&i| columns[i].role == Some(role))
-            .collect();
+        let hits: Vec<usize> =
+            (0..columns.len()).filter(|&i| columns[i].role == Some(role)).collect();
         match hits[..] {
             [] => Ok(None),
             [i] => Ok(Some(i)),
@@ -247,10 +226,7 @@ pub(crate) fn parse_table(file: &str, bytes: &[u8]) -> Result<Table, IoError> {
         }
     };
     let mut index = [None; 5];
-    for (k, role) in [Role::X, Role::Y, Role::U, Role::V, Role::T]
-        .into_iter()
-        .enumerate()
-    {
+    for (k, role) in [Role::X, Role::Y, Role::U, Role::V, Role::T].into_iter().enumerate() {
         index[k] = find(role)?;
         if k < 4 && index[k].is_none() {
             return Err(IoError::MissingColumn {
@@ -275,17 +251,10 @@ pub(crate) fn parse_table(file: &str, bytes: &[u8]) -> Result<Table, IoError> {
             c.reserve(n_rows);
         }
     }
-    let mut valid = if flags.is_empty() {
-        None
-    } else {
-        Some(Vec::with_capacity(n_rows))
-    };
+    let mut valid = if flags.is_empty() { None } else { Some(Vec::with_capacity(n_rows)) };
     let mut row_lines = Vec::with_capacity(n_rows);
-    let line_err = |line: usize, reason: String| IoError::Line {
-        file: file.into(),
-        line: line + 1,
-        reason,
-    };
+    let line_err =
+        |line: usize, reason: String| IoError::Line { file: file.into(), line: line + 1, reason };
     for &li in content.iter().filter(|&&i| i >= first_data) {
         let cells = split(lines[li], sep);
         let cell = |col: usize| -> Result<&str, IoError> {
@@ -310,10 +279,7 @@ pub(crate) fn parse_table(file: &str, bytes: &[u8]) -> Result<Table, IoError> {
             number(c, decimal_comma).or_else(flag).ok_or_else(|| {
                 line_err(
                     li,
-                    format!(
-                        "column '{}' holds '{c}', which is not a number",
-                        columns[col].label
-                    ),
+                    format!("column '{}' holds '{c}', which is not a number", columns[col].label),
                 )
             })
         };
@@ -346,17 +312,7 @@ pub(crate) fn parse_table(file: &str, bytes: &[u8]) -> Result<Table, IoError> {
         row_lines.push(li + 1);
     }
     let [x, y, u, v, t] = cols;
-    Ok(Table {
-        x,
-        y,
-        u,
-        v,
-        t: index[4].map(|_| t),
-        valid,
-        lines: row_lines,
-        columns,
-        index,
-    })
+    Ok(Table { x, y, u, v, t: index[4].map(|_| t), valid, lines: row_lines, columns, index })
 }
 
 #[cfg(test)]
@@ -403,17 +359,9 @@ mod tests {
     #[test]
     fn malformed_tables_are_reported() {
         let e = table("x,y,u\n0,0,1\n1,1,1\n").unwrap_err().to_string();
-        assert!(
-            e.contains("no column for v") && e.contains("'x', 'y', 'u'"),
-            "{e}"
-        );
-        let e = table("x,y,u,v\n0,0,1,1\n1,0,abc,1\n")
-            .unwrap_err()
-            .to_string();
-        assert!(
-            e.contains("line 3") && e.contains("'abc'") && e.contains("column 'u'"),
-            "{e}"
-        );
+        assert!(e.contains("no column for v") && e.contains("'x', 'y', 'u'"), "{e}");
+        let e = table("x,y,u,v\n0,0,1,1\n1,0,abc,1\n").unwrap_err().to_string();
+        assert!(e.contains("line 3") && e.contains("'abc'") && e.contains("column 'u'"), "{e}");
         let e = table("x,y,u,v\n0,0,1,1\n1,0,1\n").unwrap_err().to_string();
         assert!(e.contains("line 3") && e.contains("3 cells"), "{e}");
         let e = table("0,0,1,1\n1,0,1,1\n").unwrap_err().to_string();
@@ -426,22 +374,11 @@ mod tests {
         assert!(e.contains("no data"), "{e}");
         let e = table("x,y,u,v\n").unwrap_err().to_string();
         assert!(e.contains("no data rows"), "{e}");
-        assert!(matches!(
-            parse_table("e.csv", b""),
-            Err(IoError::EmptyFile { .. })
-        ));
-        let e = table("x,y,u,v\n0,0,1,1\nnan,0,1,1\n")
-            .unwrap_err()
-            .to_string();
-        assert!(
-            e.contains("line 3") && e.contains("column 'x' holds NaN"),
-            "{e}"
-        );
+        assert!(matches!(parse_table("e.csv", b""), Err(IoError::EmptyFile { .. })));
+        let e = table("x,y,u,v\n0,0,1,1\nnan,0,1,1\n").unwrap_err().to_string();
+        assert!(e.contains("line 3") && e.contains("column 'x' holds NaN"), "{e}");
         let e = table("x,y,u,v\n0,,1,1\n1,0,1,1\n").unwrap_err().to_string();
-        assert!(
-            e.contains("line 2") && e.contains("column 'y' holds ''"),
-            "{e}"
-        );
+        assert!(e.contains("line 2") && e.contains("column 'y' holds ''"), "{e}");
     }
 
     #[test]

@@ -29,14 +29,8 @@ fn several_files_in_natural_order_with_dt() {
         file("run/f1.csv", &snapshot(1, "x,y,u,v", &ALL)),
     ];
     let e = read_series(&files, &ReadOptions::default()).unwrap_err();
-    assert!(
-        matches!(e, IoError::NeedDt { .. }) && e.to_string().contains("3 text files"),
-        "{e}"
-    );
-    let opts = ReadOptions {
-        dt: Some(0.1),
-        ..Default::default()
-    };
+    assert!(matches!(e, IoError::NeedDt { .. }) && e.to_string().contains("3 text files"), "{e}");
+    let opts = ReadOptions { dt: Some(0.1), ..Default::default() };
     let s = read_series(&files, &opts).unwrap();
     assert_eq!((s.nx(), s.ny(), s.nt()), (3, 2, 3));
     // y was listed descending (2 then 1): the grid ascends from 1.
@@ -81,10 +75,7 @@ fn units_from_decorations_and_options() {
     let px = snapshot(0, "x [px],y [px],u [px/frame],v [px/frame]", &ALL);
     let e = read_series(&[file("a.csv", &px)], &ReadOptions::default()).unwrap_err();
     assert!(e.to_string().contains("'x [px]'"), "{e}");
-    let opts = ReadOptions {
-        length_unit: Some(LengthUnit::Mm),
-        ..Default::default()
-    };
+    let opts = ReadOptions { length_unit: Some(LengthUnit::Mm), ..Default::default() };
     let s = read_series(&[file("a.csv", &px)], &opts).unwrap();
     assert!((s.u()[0] - 0.010).abs() < 1e-8);
 }
@@ -94,10 +85,7 @@ fn missing_nodes_are_masked_and_flags_become_gaps() {
     // Node (1, 1) is absent; node (0, 0) is flagged bad in the second file.
     let a = "x y u v flag\n0 0 1 1 0\n1 0 1 1 0\n2 0 1 1 0\n0 1 1 1 0\n2 1 1 1 0\n";
     let b = "x y u v flag\n0 0 9 9 1\n1 0 1 1 0\n2 0 1 1 0\n0 1 1 1 0\n2 1 1 1 0\n";
-    let opts = ReadOptions {
-        dt: Some(1.0),
-        ..Default::default()
-    };
+    let opts = ReadOptions { dt: Some(1.0), ..Default::default() };
     let s = read_series(&[file("a.txt", a), file("b.txt", b)], &opts).unwrap();
     assert!(s.mask()[4] && s.masked_count() == 1);
     assert!(s.gaps_at(1).unwrap()[0]);
@@ -108,64 +96,34 @@ fn missing_nodes_are_masked_and_flags_become_gaps() {
 fn time_columns() {
     let with_t =
         |t: &str| format!("x,y,u,v,time\n0,0,1,1,{t}\n1,0,1,1,{t}\n0,1,1,1,{t}\n1,1,1,1,{t}\n");
-    let files = [
-        file("s_2.csv", &with_t("0.5")),
-        file("s_1.csv", &with_t("0.25")),
-    ];
+    let files = [file("s_2.csv", &with_t("0.5")), file("s_1.csv", &with_t("0.25"))];
     let s = read_series(&files, &ReadOptions::default()).unwrap();
     assert_eq!(s.times(), [0.25, 0.5]);
-    let files = [
-        file("s_2.csv", &with_t("0.1")),
-        file("s_1.csv", &with_t("0.25")),
-    ];
-    let e = read_series(&files, &ReadOptions::default())
-        .unwrap_err()
-        .to_string();
-    assert!(
-        e.contains("'s_2.csv'") && e.contains("does not come after"),
-        "{e}"
-    );
+    let files = [file("s_2.csv", &with_t("0.1")), file("s_1.csv", &with_t("0.25"))];
+    let e = read_series(&files, &ReadOptions::default()).unwrap_err().to_string();
+    assert!(e.contains("'s_2.csv'") && e.contains("does not come after"), "{e}");
     let varying = "x,y,u,v,t\n0,0,1,1,0\n1,0,1,1,0\n0,1,1,1,1\n1,1,1,1,0\n";
     let e = read_series(&[file("v.csv", varying)], &ReadOptions::default()).unwrap_err();
-    assert!(
-        e.to_string().contains("line 4") && e.to_string().contains("changes"),
-        "{e}"
-    );
+    assert!(e.to_string().contains("line 4") && e.to_string().contains("changes"), "{e}");
 }
 
 #[test]
 fn inconsistent_files_are_reported() {
-    let opts = ReadOptions {
-        dt: Some(1.0),
-        ..Default::default()
-    };
+    let opts = ReadOptions { dt: Some(1.0), ..Default::default() };
     let full = snapshot(0, "x,y,u,v", &ALL);
     let short = snapshot(0, "x,y,u,v", &[0, 1, 2, 3, 4]);
-    let files = [
-        file("a.csv", &full),
-        file("b7.csv", &short),
-        file("c.csv", &full),
-    ];
+    let files = [file("a.csv", &full), file("b7.csv", &short), file("c.csv", &full)];
     let e = read_series(&files, &opts).unwrap_err().to_string();
     assert_eq!(e, "file 'b7.csv' has 5 rows, the others 6");
 
     let moved = full.replace("\n1,2,", "\n1.25,2,");
-    let e = read_series(&[file("a.csv", &full), file("b.csv", &moved)], &opts)
-        .unwrap_err()
-        .to_string();
-    assert!(
-        e.contains("'b.csv' line") && e.contains("not one of the points"),
-        "{e}"
-    );
+    let e =
+        read_series(&[file("a.csv", &full), file("b.csv", &moved)], &opts).unwrap_err().to_string();
+    assert!(e.contains("'b.csv' line") && e.contains("not one of the points"), "{e}");
 
     let dup = "x,y,u,v\n0,0,1,1\n1,0,1,1\n0,1,1,1\n0,0,2,2\n";
-    let e = read_series(&[file("d.csv", dup)], &opts)
-        .unwrap_err()
-        .to_string();
-    assert!(
-        e.contains("line 5") && e.contains("appears twice, also on line 2"),
-        "{e}"
-    );
+    let e = read_series(&[file("d.csv", dup)], &opts).unwrap_err().to_string();
+    assert!(e.contains("line 5") && e.contains("appears twice, also on line 2"), "{e}");
 
     let stretched: String = std::iter::once("x,y,u,v\n".to_string())
         .chain((0..12).flat_map(|i| {
@@ -173,23 +131,15 @@ fn inconsistent_files_are_reported() {
             [format!("{x},0,1,1\n"), format!("{x},1,1,1\n")]
         }))
         .collect();
-    let e = read_series(&[file("s.csv", &stretched)], &opts)
-        .unwrap_err()
-        .to_string();
-    assert!(
-        e.contains("'s.csv'") && e.contains("not uniformly spaced"),
-        "{e}"
-    );
+    let e = read_series(&[file("s.csv", &stretched)], &opts).unwrap_err().to_string();
+    assert!(e.contains("'s.csv'") && e.contains("not uniformly spaced"), "{e}");
 
     let e = read_series(&[file("e.csv", "")], &opts).unwrap_err();
     assert!(matches!(e, IoError::EmptyFile { .. }), "{e}");
     let e = read_series(&[file("m.csv", "x,y,vel\n0,0,1\n")], &opts).unwrap_err();
     assert!(matches!(e, IoError::MissingColumn { .. }), "{e}");
     let e = read_series(
-        &[
-            file("a.csv", &full),
-            file("b.csv", &full.replace("x,y", "x [mm],y [mm]")),
-        ],
+        &[file("a.csv", &full), file("b.csv", &full.replace("x,y", "x [mm],y [mm]"))],
         &opts,
     )
     .unwrap_err();
