@@ -78,7 +78,8 @@ for kind, label in [("flow_map", "flow map"), ("ftle_variational", "variational 
                  wasm[kind]["best_s"], wasm[kind]["steps_per_s"]))
 crit = {}
 if not skip:
-    for est in crit_dir.glob("*/*/256x128/new/estimates.json"):
+    for est in sorted(crit_dir.glob("*/*/256x128/new/estimates.json"),
+                      key=lambda e: (e.parts[-5], e.parts[-4] != "serial")):
         group, bench = est.parts[-5], est.parts[-4]
         meta = json.loads((est.parent / "benchmark.json").read_text())
         steps = meta["throughput"]["Elements"]
