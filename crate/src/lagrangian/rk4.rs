@@ -16,11 +16,12 @@ use super::tableau::{combine, stages, RK4};
 
 /// Trajectories [`integrate_rk4_lanes`] advances side by side. A lone trajectory is a chain
 /// of dependent velocity samples; interleaving independent ones lets the processor overlap
-/// their work. Chosen by measurement on the demo flow map (BENCHMARKS.md): natively 4 lanes
-/// ran about 1.3× faster than 1 or 2; under V8 2 lanes did best (4 spill registers).
+/// their work. Chosen by measurement on the demo flow map (BENCHMARKS.md, "Transport"):
+/// natively 4 lanes ran about 1.3× faster than 1 or 2; in Node (V8) 2 lanes ran about
+/// 1.15× faster than 1 or 4.
 #[cfg(not(target_arch = "wasm32"))]
 pub const LANES: usize = 4;
-/// See the native value; WebAssembly engines do best with 2.
+/// See the native value: 2 lanes measured fastest in V8.
 #[cfg(target_arch = "wasm32")]
 pub const LANES: usize = 2;
 
