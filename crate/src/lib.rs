@@ -22,6 +22,7 @@ pub mod io;
 pub mod lagrangian;
 pub mod modes;
 pub mod render;
+pub mod sensitivity;
 
 #[cfg(target_arch = "wasm32")]
 pub mod wasm;
