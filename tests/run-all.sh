@@ -59,7 +59,9 @@ demo_reproducible() {
 }
 
 browser_tests() {
-  (cd tests/browser && node --test)
+  # ftle.test.mjs compares the page's FTLE with the CLI's (the same binary as pytest uses).
+  cargo build -p sillage --bin sillage &&
+    (cd tests/browser && SILLAGE_BIN="$root/target/debug/sillage" node --test)
 }
 
 stage "install tools" install_tools

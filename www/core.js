@@ -60,6 +60,31 @@ class Dataset {
   render(quantity, k, lo, hi, colormap, mask) {
     return call(() => this.#inner.render(quantity, k, lo, hi, colormap, mask));
   }
+  // --- transport -----------------------------------------------------------------------
+  /** The series as canonical .npz bytes (Uint8Array), for the compute workers. */
+  canonicalNpz() { return call(() => this.#inner.canonicalNpz()); }
+  /** {settings, basis, period, notes} derived from the data. */
+  transportDefaults() { return JSON.parse(call(() => this.#inner.transportDefaults())); }
+  /** [{level: 'note'|'caution'|'refuse', code, text}] for settings (an object). */
+  transportWarnings(settings) {
+    return JSON.parse(call(() => this.#inner.transportWarnings(JSON.stringify(settings))));
+  }
+  /** {nx, ny, x: [start, step], y, extent} of the tracer grid of settings. */
+  tracerGrid(settings) { return JSON.parse(call(() => this.#inner.tracerGrid(JSON.stringify(settings)))); }
+  /** {ridges: [[x0, y0, x1, y1, …]], lengths} of an assembled FTLE map. */
+  ftleRidges(settings, ftle, flag) {
+    return JSON.parse(call(() => this.#inner.ftleRidges(JSON.stringify(settings), ftle, flag)));
+  }
+  transportUnit(id) { return call(() => this.#inner.transportUnit(id)); }
+  /** Float32Array [x, y, dx, dy, …] of snapshot k, about `across` arrows along the longer side. */
+  velocityArrows(k, across) { return call(() => this.#inner.velocityArrows(k, across)); }
+  /** Field `name` of snapshot k, Float32Array (ny, nx). */
+  field(name, k) { return call(() => this.#inner.field(name, k)); }
+  /** Uint8Array (ny, nx), 1 where a cell never has data. */
+  mask() { return call(() => this.#inner.mask()); }
+  /** [x0, dx, y0, dy] of the data grid. */
+  grid() { return Array.from(call(() => this.#inner.grid())); }
+  get timeUnit() { return this.#inner.timeUnit; }
   free() { this.#inner.free(); }
 }
 
@@ -88,12 +113,43 @@ const api = {
   /** {ticks: [{value, frac, label}], exponent, scale} */
   ticks(lo, hi, target) { return JSON.parse(call(() => wasm.ticks(lo, hi, target))); },
   formatNumber(value, digits) { return call(() => wasm.formatNumber(value, digits)); },
+  /** [{id, label, colormap}] of the maps a transport run produces. */
+  transportMaps() { return JSON.parse(call(() => wasm.transportMaps())); },
+  transportRange(id, values, flags, horizon) {
+    return Array.from(call(() => wasm.transportRange(id, values, flags, horizon)));
+  },
+  transportImage(id, values, flags, nx, ny, lo, hi) {
+    return call(() => wasm.transportImage(id, values, flags, nx, ny, lo, hi));
+  },
+  transportRunWarnings(flags) { return JSON.parse(call(() => wasm.transportRunWarnings(flags))); },
+  /** The compiled module, for workers to instantiate (set by loadCore). */
+  module: null,
 };
 
 let loading = null;
 
-/** Loads and instantiates the module once; resolves to the API above. */
+const WASM_URL = new URL('./pkg/sillage_bg.wasm', import.meta.url);
+
+/** Compiles the module once (streaming when the server sends application/wasm). */
+async function compile() {
+  try {
+    return await WebAssembly.compileStreaming(fetch(WASM_URL));
+  } catch {
+    const response = await fetch(WASM_URL);
+    if (!response.ok) throw new Error(`${WASM_URL.pathname}: HTTP ${response.status}`);
+    return WebAssembly.compile(await response.arrayBuffer());
+  }
+}
+
+/**
+ * Compiles and instantiates the module once; resolves to the API above. The compiled
+ * module is kept in `api.module` so the compute workers instantiate it without compiling.
+ */
 export function loadCore() {
-  loading ??= init().then(() => api);
+  loading ??= compile().then(async (module) => {
+    await init({ module_or_path: module });
+    api.module = module;
+    return api;
+  });
   return loading;
 }

@@ -16,6 +16,7 @@
 //! * Masked cells (no valid data: a solid body, outside the light sheet) hold `0.0`, never
 //!   NaN; their mask entry is `true`.
 
+pub mod advice;
 pub mod clean;
 pub mod field;
 pub mod io;

@@ -7,29 +7,12 @@
 
 use sillage::lagrangian::analytic::{LinearSaddle, SolidBodyRotation};
 use sillage::lagrangian::{
-    AdvectOptions, BoundaryPolicy, Integrator, Mat2, Rect, TracerGrid, Vec2, VelocityField,
+    AdvectOptions, BoundaryPolicy, Integrator, Rect, TracerGrid, Vec2, VelocityField,
 };
+use sillage::sensitivity::analytic::Uniform;
 use sillage::sensitivity::{
     sensitivity_rows, trajectory, SensitivityOptions, TrajectoryBuffer, TrajectorySensitivity,
 };
-
-/// A constant perturbation g(x, t) = c.
-struct Uniform(Vec2);
-
-impl VelocityField for Uniform {
-    fn velocity(&self, _p: Vec2, _t: f64) -> Option<Vec2> {
-        Some(self.0)
-    }
-    fn velocity_gradient(&self, _p: Vec2, _t: f64) -> Option<(Vec2, Mat2)> {
-        Some((self.0, [[0.0; 2]; 2]))
-    }
-    fn window(&self) -> Option<Rect> {
-        None
-    }
-    fn time_range(&self) -> Option<(f64, f64)> {
-        None
-    }
-}
 
 fn along<F: VelocityField>(f: &F, g: Vec2, horizon: f64, h: f64) -> TrajectorySensitivity {
     let n = (horizon.abs() / h).round() as usize;

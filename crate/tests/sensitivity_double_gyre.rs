@@ -14,38 +14,14 @@ use sillage::lagrangian::{
     ftle_rows, integrate_rk4, AdvectOptions, BoundaryPolicy, FtleFlag, FtleOptions, GradientRoute,
     Integrator, Mat2, Rect, Tracer, TracerGrid, Vec2, VelocityField,
 };
+use sillage::sensitivity::analytic::Wobble;
 use sillage::sensitivity::{
     sensitivity_rows, trajectory, Perturbed, SensitivityOptions, TrajectoryBuffer,
 };
-use std::f64::consts::PI;
 
-/// A smooth, time-periodic perturbation (period of the gyre's forcing) with amplitude
-/// [`G_AMP`]: a tenth of the gyre's peak speed πA ≈ 0.31, so ε = 1e-2 is a 0.1 % change.
-struct Wobble;
-
-const G_AMP: f64 = 0.03;
-
-impl VelocityField for Wobble {
-    fn velocity(&self, p: Vec2, t: f64) -> Option<Vec2> {
-        Some(self.velocity_gradient(p, t)?.0)
-    }
-    fn velocity_gradient(&self, p: Vec2, t: f64) -> Option<(Vec2, Mat2)> {
-        let w = 2.0 * PI / 10.0;
-        let (x, y) = (p[0], p[1]);
-        let u = (PI * y).sin() * (w * t + x).cos();
-        let v = 0.5 * (PI * x).cos() * (w * t).sin();
-        let gu = [-(PI * y).sin() * (w * t + x).sin(), PI * (PI * y).cos() * (w * t + x).cos()];
-        let gv = [-0.5 * PI * (PI * x).sin() * (w * t).sin(), 0.0];
-        let a = G_AMP;
-        Some(([a * u, a * v], [[a * gu[0], a * gu[1]], [a * gv[0], a * gv[1]]]))
-    }
-    fn window(&self) -> Option<Rect> {
-        None
-    }
-    fn time_range(&self) -> Option<(f64, f64)> {
-        None
-    }
-}
+/// The perturbation: amplitude a tenth of the gyre's peak speed πA ≈ 0.31, so ε = 1e-2 is a
+/// 0.1 % change of the flow.
+const WOBBLE: Wobble = Wobble { amplitude: 0.03 };
 
 const T: f64 = 10.0;
 const STEP: f64 = 0.01;
@@ -63,7 +39,7 @@ fn bound_holds_and_is_first_order_sharp() {
     let mut buf = TrajectoryBuffer::default();
     let base: Vec<_> = seeds()
         .into_iter()
-        .map(|p| (p, trajectory(&f, &Wobble, p, 0.0, STEP, n, &mut buf).unwrap()))
+        .map(|p| (p, trajectory(&f, &WOBBLE, p, 0.0, STEP, n, &mut buf).unwrap()))
         .collect();
     assert!(base.len() >= 1000);
     for (p, s) in &base {
@@ -80,7 +56,7 @@ fn bound_holds_and_is_first_order_sharp() {
     let mut errors = Vec::new();
     let mut excess = Vec::new();
     for eps in [1e-2, 1e-3, 1e-4] {
-        let fg = Perturbed { f, g: Wobble, eps };
+        let fg = Perturbed { f, g: WOBBLE, eps };
         let (mut sq, mut c) = (0.0, 0.0f64);
         for (p, s) in &base {
             let y = integrate_rk4(&Tracer(&fg), *p, 0.0, T, STEP).y;
@@ -113,7 +89,7 @@ fn sweep_ftle_equals_the_variational_route() {
         integrator: Integrator::Rk4 { max_step: STEP },
         boundary: BoundaryPolicy::Stop,
     };
-    let s = sensitivity_rows(&f, &Wobble, &grid, &SensitivityOptions { advect, g_ref: 1.0 }, 0, 21)
+    let s = sensitivity_rows(&f, &WOBBLE, &grid, &SensitivityOptions { advect, g_ref: 1.0 }, 0, 21)
         .unwrap();
     let fo = FtleOptions { advect, route: GradientRoute::Variational };
     let r = ftle_rows(&f, &grid, &fo, 0, 21).unwrap();

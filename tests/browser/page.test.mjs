@@ -276,7 +276,7 @@ test('every control is labelled and reachable with Tab', async () => {
   for (const c of controls) assert.equal(await c.count(), 1);
   await page.locator('body').focus();
   const reached = new Set();
-  for (let i = 0; i < 25; i += 1) {
+  for (let i = 0; i < 50; i += 1) {
     await page.keyboard.press('Tab');
     reached.add(await page.evaluate(() => document.activeElement?.id || document.activeElement?.tagName));
   }

@@ -1,9 +1,11 @@
-// The field map: one scalar field of a dataset on a canvas, with axes and a title.
+// The field map: one scalar field on a canvas, with axes, a title, optional overlays
+// (FTLE ridges, velocity arrows) and a visible window for zoom and pan.
 //
-// Data contract: `dataset.render(quantity, k, lo, hi)` gives nx × ny RGBA bytes, first row
-// = largest y; `dataset.extent()` gives the rectangle [x_min, x_max, y_min, y_max] the
-// picture covers. x and y get the same scale (a square cell stays square), y points up.
-// Tick values and labels come from the core; this view only places them.
+// Data contract: `view.picture` = {key, nx, ny, extent, paint()} where paint() gives nx × ny
+// RGBA bytes, first row = largest y, covering the rectangle `extent` [x_min, x_max, y_min,
+// y_max]. The plot box keeps the aspect of `view.extent` (the whole data picture); `view.window`
+// (same layout) is the part shown. x and y get the same scale, y points up. Tick values and
+// labels come from the core; this view only places them.
 import { fitCanvas, toImageData, FONT, TITLE_FONT, INK, INK_SOFT } from './canvas.js';
 
 const MARGIN = { top: 30, right: 14, bottom: 46, left: 64 };
@@ -22,17 +24,16 @@ function axisTitle(name, unit, scale) {
 export function createFieldMap(canvas, core) {
   const picture = document.createElement('canvas');
   let pictureKey = '';
+  let last = null; // {box, window} of the last drawing
 
   /** Puts the field's pixels into the offscreen picture, unless they are already there. */
-  function paintPicture(view) {
-    const { dataset, datasetId, quantity, k, range } = view;
-    const key = `${datasetId}|${quantity}|${k}|${range[0]}|${range[1]}`;
-    if (key === pictureKey) return;
-    const rgba = dataset.render(quantity, k, range[0], range[1]);
-    picture.width = dataset.nx;
-    picture.height = dataset.ny;
-    picture.getContext('2d').putImageData(toImageData(rgba, dataset.nx, dataset.ny), 0, 0);
-    pictureKey = key;
+  function paintPicture(p) {
+    if (p.key === pictureKey) return;
+    const rgba = p.paint();
+    picture.width = p.nx;
+    picture.height = p.ny;
+    picture.getContext('2d').putImageData(toImageData(rgba, p.nx, p.ny), 0, 0);
+    pictureKey = p.key;
   }
 
   /** Plot rectangle (CSS px) for the available width and the extent's aspect ratio. */
@@ -57,8 +58,17 @@ export function createFieldMap(canvas, core) {
     };
   }
 
-  function drawAxes(ctx, box, extent, dataset) {
-    const [x0, x1, y0, y1] = extent;
+  /** World → CSS px of the canvas for a box and a visible window. */
+  function projector(box, win) {
+    const [w0, w1, w2, w3] = win;
+    return {
+      x: (x) => box.left + ((x - w0) / (w1 - w0)) * box.width,
+      y: (y) => box.top + ((w3 - y) / (w3 - w2)) * box.height,
+    };
+  }
+
+  function drawAxes(ctx, box, win, lengthUnit) {
+    const [x0, x1, y0, y1] = win;
     ctx.strokeStyle = INK_SOFT;
     ctx.lineWidth = 1;
     ctx.strokeRect(box.left - 0.5, box.top - 0.5, box.width + 1, box.height + 1);
@@ -89,50 +99,115 @@ export function createFieldMap(canvas, core) {
     ctx.fillStyle = INK_SOFT;
     ctx.textAlign = 'center';
     ctx.textBaseline = 'bottom';
-    ctx.fillText(axisTitle('x', dataset.lengthUnit, xt.scale),
+    ctx.fillText(axisTitle('x', lengthUnit, xt.scale),
       box.left + box.width / 2, box.top + box.height + MARGIN.bottom - 2);
     ctx.save();
     ctx.translate(14, box.top + box.height / 2);
     ctx.rotate(-Math.PI / 2);
     ctx.textBaseline = 'middle';
-    ctx.fillText(axisTitle('y', dataset.lengthUnit, yt.scale), 0, 0);
+    ctx.fillText(axisTitle('y', lengthUnit, yt.scale), 0, 0);
     ctx.restore();
+  }
+
+  /** Ridge polylines ([[x0, y0, x1, y1, …]] in world units): a light line with a dark rim. */
+  function drawRidges(ctx, proj, ridges) {
+    ctx.lineJoin = 'round';
+    ctx.lineCap = 'round';
+    for (const [width, colour] of [[3.2, 'rgba(10, 20, 30, 0.6)'], [1.4, '#ffffff']]) {
+      ctx.lineWidth = width;
+      ctx.strokeStyle = colour;
+      ctx.beginPath();
+      for (const line of ridges) {
+        for (let i = 0; i + 1 < line.length; i += 2) {
+          const px = proj.x(line[i]);
+          const py = proj.y(line[i + 1]);
+          if (i === 0) ctx.moveTo(px, py);
+          else ctx.lineTo(px, py);
+        }
+      }
+      ctx.stroke();
+    }
+  }
+
+  /** Arrows [x, y, dx, dy, …] (world units) with small heads. */
+  function drawArrows(ctx, proj, arrows) {
+    const scale = proj.x(1) - proj.x(0); // px per length unit (same on both axes)
+    ctx.lineCap = 'round';
+    for (const [width, colour] of [[2.6, 'rgba(255, 255, 255, 0.7)'], [1.1, INK]]) {
+      ctx.lineWidth = width;
+      ctx.strokeStyle = colour;
+      ctx.beginPath();
+      for (let i = 0; i + 3 < arrows.length; i += 4) {
+        const x0 = proj.x(arrows[i]);
+        const y0 = proj.y(arrows[i + 1]);
+        const dx = arrows[i + 2] * scale;
+        const dy = -arrows[i + 3] * scale;
+        const len = Math.hypot(dx, dy);
+        if (len < 0.5) continue;
+        const x1 = x0 + dx;
+        const y1 = y0 + dy;
+        ctx.moveTo(x0, y0);
+        ctx.lineTo(x1, y1);
+        const head = Math.min(5, 0.35 * len);
+        const ux = dx / len;
+        const uy = dy / len;
+        ctx.moveTo(x1 - head * (ux - 0.5 * uy), y1 - head * (uy + 0.5 * ux));
+        ctx.lineTo(x1, y1);
+        ctx.lineTo(x1 - head * (ux + 0.5 * uy), y1 - head * (uy - 0.5 * ux));
+      }
+      ctx.stroke();
+    }
   }
 
   return {
     /**
-     * Draws `view` ({dataset, datasetId, quantity, quantityLabel, k, range}) into `width`
-     * CSS pixels; returns the plot box so the colour bar can line up with it.
+     * Draws `view` into `width` CSS pixels: {picture, extent, window, lengthUnit, title,
+     * caption, ariaLabel, ridges, arrows}. Returns the plot box so the colour bar can line
+     * up with it.
      */
     draw(view, width) {
-      const { dataset, k } = view;
-      const extent = dataset.extent();
-      const box = layout(width, extent);
-      paintPicture(view);
+      const box = layout(width, view.extent);
+      const win = view.window ?? view.extent;
+      paintPicture(view.picture);
       const ctx = fitCanvas(canvas, box.cssWidth, box.cssHeight);
+      const proj = projector(box, win);
+      const [p0, p1, p2, p3] = view.picture.extent;
+      ctx.save();
+      ctx.beginPath();
+      ctx.rect(box.left, box.top, box.width, box.height);
+      ctx.clip();
       // One grid cell per block of pixels: smoothing would invent values between nodes
       // and blur the mask's outline.
       ctx.imageSmoothingEnabled = false;
-      ctx.drawImage(picture, box.left, box.top, box.width, box.height);
-      drawAxes(ctx, box, extent, dataset);
+      ctx.drawImage(picture, proj.x(p0), proj.y(p3), proj.x(p1) - proj.x(p0), proj.y(p2) - proj.y(p3));
+      if (view.arrows) drawArrows(ctx, proj, view.arrows);
+      if (view.ridges) drawRidges(ctx, proj, view.ridges);
+      ctx.restore();
+      drawAxes(ctx, box, win, view.lengthUnit);
 
-      const time = dataset.timeLabel(k);
       ctx.font = TITLE_FONT;
       ctx.fillStyle = INK;
       ctx.textBaseline = 'alphabetic';
       ctx.textAlign = 'left';
-      ctx.fillText(view.quantityLabel, box.left, box.top - 10);
+      ctx.fillText(view.title, box.left, box.top - 10);
       ctx.font = FONT;
       ctx.fillStyle = INK_SOFT;
       ctx.textAlign = 'right';
-      ctx.fillText(`t = ${time}`, box.left + box.width, box.top - 10);
-
-      const lo = core.formatNumber(view.range[0], 3);
-      const hi = core.formatNumber(view.range[1], 3);
-      const unit = view.unit === '1' ? '' : ` ${view.unit}`;
-      canvas.setAttribute('aria-label',
-        `${view.quantityLabel} at t = ${time}, colours from ${lo} to ${hi}${unit}`);
+      ctx.fillText(view.caption, box.left + box.width, box.top - 10);
+      canvas.setAttribute('aria-label', view.ariaLabel);
+      last = { box, window: win };
       return box;
     },
+    /** World coordinates [x, y] under CSS pixel (px, py) of the canvas; null outside the plot. */
+    toWorld(px, py) {
+      if (!last) return null;
+      const { box, window: [w0, w1, w2, w3] } = last;
+      const fx = (px - box.left) / box.width;
+      const fy = (py - box.top) / box.height;
+      if (fx < 0 || fx > 1 || fy < 0 || fy > 1) return null;
+      return [w0 + fx * (w1 - w0), w3 - fy * (w3 - w2)];
+    },
+    /** Plot width in CSS px and the window drawn last (for panning by pixels). */
+    lastLayout() { return last; },
   };
 }

@@ -15,7 +15,7 @@ use zip::{CompressionMethod, ZipArchive, ZipWriter};
 const DEFLATE_LEVEL: i64 = 1;
 
 /// Entries larger than this need the zip64 extension (zip format: 32-bit sizes).
-const ZIP32_LIMIT: usize = u32::MAX as usize;
+const ZIP32_LIMIT: u64 = u32::MAX as u64;
 
 /// An opened archive: the array names and lazy access to each, so that a reader can skip
 /// entries it does not need.
@@ -101,7 +101,7 @@ pub fn write_arrays_npz(arrays: &[NpyArray]) -> Vec<u8> {
             .last_modified_time(zip::DateTime::default())
             .compression_method(CompressionMethod::Deflated)
             .compression_level(Some(DEFLATE_LEVEL))
-            .large_file(bytes.len() >= ZIP32_LIMIT);
+            .large_file(bytes.len() as u64 >= ZIP32_LIMIT);
         zip.start_file(format!("{}.npy", a.name), options)
             .unwrap_or_else(|e| panic!("write_arrays_npz: entry '{}': {e}", a.name));
         zip.write_all(&bytes).expect("writing into an in-memory zip archive cannot fail");

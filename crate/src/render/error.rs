@@ -19,4 +19,6 @@ pub enum RenderError {
     BadRange { lo: f64, hi: f64 },
     #[error("at least {min} ticks must be asked for (got {got})")]
     TooFewTicks { min: usize, got: usize },
+    #[error("{0}")]
+    Invalid(String),
 }

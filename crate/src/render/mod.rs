@@ -5,6 +5,7 @@
 //! user sees is decided in one place, in the core; the page only places the pixels and
 //! strings it receives.
 
+pub mod arrows;
 pub mod colormap;
 mod error;
 pub mod format;
@@ -15,7 +16,9 @@ pub mod quantity;
 pub mod range;
 pub mod summary;
 pub mod ticks;
+pub mod transport;
 
+pub use arrows::velocity_arrows;
 pub use colormap::{mask_rgba, Colormap, ColormapKind, LUT_SIZE};
 pub use error::RenderError;
 pub use labels::{snapshot_label, TimeFormat};
@@ -24,3 +27,4 @@ pub use quantity::{valid_cells, Quantity};
 pub use range::{default_range, percentile, RangeScope};
 pub use summary::{summary, SummaryRow};
 pub use ticks::{nice_ticks, Tick, Ticks};
+pub use transport::TransportMap;

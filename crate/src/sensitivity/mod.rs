@@ -20,7 +20,9 @@
 //! the FTLE engine, so the CLI's threads and the page's workers split the work the same
 //! way. The brute-force comparator Δσ = σ_FTLE[f + εg] − σ_FTLE[f] is [`delta_ftle_rows`].
 
+pub mod analytic;
 mod error;
+mod export;
 #[cfg(feature = "cli")]
 pub mod parallel;
 mod perturbed;
@@ -31,6 +33,7 @@ mod trajectory;
 mod workflow;
 
 pub use error::SensitivityError;
+pub use export::{sensitivity_npz, sensitivity_vti};
 pub use perturbed::{delta_ftle_rows, Perturbed};
 pub use quadrature::node_weights;
 pub use reference::rms_speed;

@@ -1,6 +1,7 @@
 //! The `Dataset` class: one loaded series and everything the page draws from it.
 
 use super::js_error;
+use crate::advice::{data_quality, DataQuality};
 use crate::field::Series;
 use crate::io::{read_series, NamedBytes, ReadOptions};
 use crate::render::{
@@ -8,6 +9,7 @@ use crate::render::{
     Colormap, Quantity, RangeScope, TimeFormat,
 };
 use js_sys::{Array, Uint8Array};
+use std::cell::OnceCell;
 use wasm_bindgen::prelude::*;
 use wasm_bindgen::JsCast;
 
@@ -17,6 +19,20 @@ pub struct Dataset {
     series: Series,
     sources: Vec<String>,
     times: TimeFormat,
+    /// Outlier count for the transport warnings, computed on first use.
+    quality: OnceCell<DataQuality>,
+}
+
+impl Dataset {
+    /// The series, for the other binding files.
+    pub(super) fn series(&self) -> &Series {
+        &self.series
+    }
+
+    /// The data-quality sample of the transport warnings (computed once).
+    pub(super) fn quality(&self) -> &DataQuality {
+        self.quality.get_or_init(|| data_quality(&self.series))
+    }
 }
 
 /// An optional text option: absent, empty or `auto` means "as the files say".
@@ -73,7 +89,12 @@ impl Dataset {
         }
         let series = read_series(&input, &opts).map_err(js_error)?;
         let times = TimeFormat::for_series(&series);
-        Ok(Dataset { series, sources: input.into_iter().map(|f| f.name).collect(), times })
+        Ok(Dataset {
+            series,
+            sources: input.into_iter().map(|f| f.name).collect(),
+            times,
+            quality: OnceCell::new(),
+        })
     }
 
     #[wasm_bindgen(getter)]

@@ -3,17 +3,23 @@
 //! [`crate::render`]); every error reaches JavaScript as an `Error` carrying the core's
 //! message.
 //!
-//! JavaScript sees: the `Dataset` class (a loaded series and what can be drawn from it),
-//! free functions for colour maps, ticks and the list of fields, and `takePanicMessage`,
-//! which returns the message of a panic after a call trapped.
+//! JavaScript sees: the `Dataset` class (a loaded series, what can be drawn from it, and the
+//! transport calls: canonical bytes for workers, FTLE row ranges, defaults, warnings,
+//! ridges, arrows), free functions for colour maps, ticks, the list of fields and the
+//! pictures of computed maps, and `takePanicMessage`, which returns the message of a panic
+//! after a call trapped.
 
 mod dataset;
 mod display;
 mod panic;
+mod transport;
 
 pub use dataset::Dataset;
 pub use display::{colormap_rgba, format_number, mask_color, quantities, ticks};
 pub use panic::take_panic_message;
+pub use transport::{
+    self_test_panic, transport_image, transport_maps, transport_range, transport_run_warnings,
+};
 
 use wasm_bindgen::prelude::*;
 

@@ -83,3 +83,38 @@ export function npzShapes(path, names) {
   }
   return shapes;
 }
+
+const DTYPES = {
+  '<f4': Float32Array, '<f8': Float64Array, '|u1': Uint8Array, '<u1': Uint8Array, '|b1': Uint8Array,
+  '<i4': Int32Array, '<i8': BigInt64Array,
+};
+
+/** A .npy array as {shape, data: TypedArray} (little-endian, C order, common dtypes only). */
+export function npyArray(bytes) {
+  const major = bytes[6];
+  const headerLen = major === 1 ? bytes.readUInt16LE(8) : bytes.readUInt32LE(8);
+  const headerStart = major === 1 ? 10 : 12;
+  const header = bytes.toString('latin1', headerStart, headerStart + headerLen);
+  const descr = header.match(/'descr':\s*'([^']+)'/)?.[1];
+  if (/'fortran_order':\s*True/.test(header)) throw new Error('Fortran-ordered arrays are not supported');
+  const Type = DTYPES[descr];
+  if (!Type) throw new Error(`unsupported dtype ${descr}`);
+  const start = headerStart + headerLen;
+  const body = bytes.subarray(start);
+  const copy = new Uint8Array(body.length);
+  copy.set(body);
+  return { shape: npyShape(bytes), data: new Type(copy.buffer, 0, body.length / Type.BYTES_PER_ELEMENT) };
+}
+
+/** {name: {shape, data}} for the members of the .npz file at `path` named in `names`. */
+export function npzArrays(path, names) {
+  const buf = readFileSync(path);
+  const all = entries(buf);
+  const out = {};
+  for (const name of names) {
+    const entry = all.get(`${name}.npy`);
+    if (!entry) throw new Error(`${path} has no ${name}.npy`);
+    out[name] = npyArray(member(buf, entry));
+  }
+  return out;
+}

@@ -3,6 +3,7 @@
 //! interpolation and boundary policy. Times and lengths are given in the input's units and
 //! converted to SI here, once.
 
+use sillage::advice::default_step;
 use sillage::field::Series;
 use sillage::lagrangian::{
     AdvectOptions, BoundaryPolicy, DopriOptions, Integrator, Rect, SpaceInterp, TimeInterp,
@@ -160,29 +161,6 @@ fn parse_grid(text: &str) -> Result<(usize, usize), String> {
     let nx = a.trim().parse::<usize>().map_err(|_| bad())?;
     let ny = b.trim().parse::<usize>().map_err(|_| bad())?;
     Ok((nx, ny))
-}
-
-/// Half a grid spacing at the highest speed of the data (starting rule |u|max·Δt ≲ 0.5
-/// spacing, from memory, METHODS.md §1), and no more than one snapshot interval.
-fn default_step(series: &Series) -> f64 {
-    let g = series.grid();
-    let h = g.x.step.min(g.y.step);
-    let vmax = series
-        .u()
-        .iter()
-        .zip(series.v())
-        .map(|(a, b)| (*a as f64).hypot(*b as f64))
-        .fold(0.0, f64::max);
-    let mut step = if vmax > 0.0 { 0.5 * h / vmax } else { f64::INFINITY };
-    let t = series.times();
-    if t.len() > 1 {
-        step = step.min((t[t.len() - 1] - t[0]) / (t.len() - 1) as f64);
-    }
-    if step.is_finite() {
-        step
-    } else {
-        1.0
-    }
 }
 
 #[cfg(test)]

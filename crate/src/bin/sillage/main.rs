@@ -11,6 +11,7 @@ mod lagrangian_args;
 mod modes;
 mod output;
 mod select;
+mod sensitivity;
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
@@ -43,6 +44,9 @@ enum Command {
     Modes(modes::Args),
     /// The velocity field formed by a selection of modes, e.g. "mean + pod(1-2)".
     Select(select::Args),
+    /// Model / mode sensitivity of the FTLE field: MS, MS_g, the strain bound, ξ, σ_MS and
+    /// ζ = σ_MS − FTLE for a model flow f and a perturbation g (selections or files).
+    Sensitivity(sensitivity::Args),
 }
 
 fn main() -> ExitCode {
@@ -54,6 +58,7 @@ fn main() -> ExitCode {
         Command::Ftle(a) => ftle::run(a),
         Command::Modes(a) => modes::run(a),
         Command::Select(a) => select::run(a),
+        Command::Sensitivity(a) => sensitivity::run(a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

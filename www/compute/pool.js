@@ -1,0 +1,193 @@
+// The worker pool: one worker per core, each with its own instance of the core and its own
+// copy of the dataset. A job (a kind, its settings and a number of rows) is split into row
+// chunks, more chunks than workers so the load balances and progress moves; the chunks'
+// arrays are copied into place here (no numerics: rows are put where they belong).
+//
+// Workers start from Blob URLs: a worker started from a same-origin script URL is not
+// covered by the page's <meta> Content-Security-Policy, one started from a blob: URL
+// inherits it (see DESIGN.md, "Known pitfalls"), so the workers cannot reach other hosts
+// either, wherever the page is served from.
+
+/** The run was cancelled by the user. */
+export class JobCancelled extends Error {
+  constructor() {
+    super('cancelled');
+    this.name = 'JobCancelled';
+  }
+}
+
+/** A chunk failed inside the core; `panic` when the core trapped (an internal error). */
+export class JobFailed extends Error {
+  constructor(message, panic) {
+    super(message);
+    this.name = 'JobFailed';
+    this.panic = panic;
+  }
+}
+
+const WORKER_URL = new URL('./worker.js', import.meta.url).href;
+
+function blobWorkerUrl() {
+  const source = `import ${JSON.stringify(WORKER_URL)};\n`;
+  return URL.createObjectURL(new Blob([source], { type: 'text/javascript' }));
+}
+
+/** Rows per chunk: about four chunks per worker, at most 16 rows, at least 1. */
+export function chunkRows(rows, workers) {
+  return Math.max(1, Math.min(16, Math.ceil(rows / (4 * workers))));
+}
+
+/**
+ * Creates a pool of `size` workers (default: navigator.hardwareConcurrency, at least 1)
+ * running the compiled core `module` (a WebAssembly.Module).
+ */
+export function createPool({ module, size }) {
+  const count = Math.max(1, Math.floor(size ?? navigator.hardwareConcurrency ?? 1) || 1);
+  const url = blobWorkerUrl();
+  let data = null; // {id, bytes: Uint8Array}
+  let slots = [];
+  let current = null; // the running job
+  let nextJobId = 1;
+
+  function post(slot, message, transfer = []) {
+    slot.worker.postMessage(message, transfer);
+  }
+
+  function sendDataset(slot) {
+    if (!data) return;
+    const copy = data.bytes.slice();
+    post(slot, { type: 'dataset', datasetId: data.id, bytes: copy.buffer }, [copy.buffer]);
+  }
+
+  function spawn() {
+    const slot = { worker: new Worker(url, { type: 'module', name: 'sillage-compute' }), chunk: null, fatal: null };
+    slot.worker.onmessage = (event) => onMessage(slot, event.data);
+    slot.worker.onerror = (event) => {
+      event.preventDefault();
+      onBroken(slot, `a compute worker stopped: ${event.message || 'script error'}`);
+    };
+    post(slot, { type: 'init', module });
+    sendDataset(slot);
+    return slot;
+  }
+
+  function replace(slot) {
+    slot.worker.terminate();
+    const i = slots.indexOf(slot);
+    if (i >= 0) slots[i] = spawn();
+  }
+
+  function onBroken(slot, message) {
+    const job = current;
+    replace(slot);
+    if (job && slot.chunk) finish(job, new JobFailed(message, true));
+  }
+
+  function onMessage(slot, m) {
+    if (m.type === 'fatal') {
+      slot.fatal = m.message;
+      if (current && slot.chunk) onBroken(slot, m.message);
+      return;
+    }
+    const job = current;
+    if (!job || m.jobId !== job.id) return; // a late answer to a finished or failed job
+    slot.chunk = null;
+    if (m.type === 'failed') {
+      if (m.panic) replace(slot);
+      finish(job, new JobFailed(m.message, m.panic));
+      return;
+    }
+    // Put the rows in place.
+    for (const [name, part] of Object.entries(m.arrays)) {
+      const width = part.length / (m.j1 - m.j0);
+      job.arrays[name] ??= new part.constructor(job.rows * width);
+      job.arrays[name].set(part, m.j0 * width);
+    }
+    job.info.push(m.info);
+    job.doneRows += m.j1 - m.j0;
+    job.doneChunks += 1;
+    const elapsed = (performance.now() - job.start) / 1000;
+    job.onProgress?.({
+      done: job.doneRows,
+      total: job.rows,
+      fraction: job.doneRows / job.rows,
+      elapsed,
+      remaining: elapsed * (job.rows - job.doneRows) / job.doneRows,
+    });
+    if (job.doneChunks === job.chunks.length) {
+      finish(job, null);
+      return;
+    }
+    dispatch(slot, job);
+  }
+
+  function dispatch(slot, job) {
+    if (job.next >= job.chunks.length || current !== job) return;
+    const chunk = job.next;
+    job.next += 1;
+    const [j0, j1] = job.chunks[chunk];
+    slot.chunk = chunk;
+    post(slot, {
+      type: 'job', jobId: job.id, chunk, kind: job.kind, datasetId: data.id, settings: job.settings, j0, j1,
+    });
+  }
+
+  function finish(job, error) {
+    if (current !== job) return;
+    current = null;
+    for (const slot of slots) slot.chunk = null;
+    if (error) job.reject(error);
+    else job.resolve({ arrays: job.arrays, info: job.info, seconds: (performance.now() - job.start) / 1000 });
+  }
+
+  slots = Array.from({ length: count }, spawn);
+
+  return {
+    size: count,
+    /** Hands a dataset (canonical .npz bytes) to every worker; `id` tags the jobs for it. */
+    setDataset(id, bytes) {
+      data = { id, bytes };
+      for (const slot of slots) sendDataset(slot);
+    },
+    get busy() { return current !== null; },
+    /**
+     * Runs job `kind` with `settings` (a JSON string) over `rows` rows. Resolves to
+     * {arrays: {name: TypedArray (rows × width)}, info: [per-chunk info], seconds}; rejects
+     * with JobCancelled or JobFailed. `onProgress({done, total, fraction, elapsed,
+     * remaining})` follows each chunk. One job at a time.
+     */
+    run({ kind, settings, rows, onProgress }) {
+      if (current) return Promise.reject(new Error('a computation is already running'));
+      if (!data) return Promise.reject(new Error('no dataset is loaded'));
+      const step = chunkRows(rows, count);
+      const chunks = [];
+      for (let j = 0; j < rows; j += step) chunks.push([j, Math.min(rows, j + step)]);
+      return new Promise((resolve, reject) => {
+        const job = {
+          id: nextJobId++, kind, settings, rows, chunks, next: 0, doneRows: 0, doneChunks: 0,
+          arrays: {}, info: [], start: performance.now(), onProgress, resolve, reject,
+        };
+        current = job;
+        for (const slot of slots) dispatch(slot, job);
+      });
+    },
+    /** Stops the running job at once: its workers are ended and fresh ones started. */
+    cancel() {
+      const job = current;
+      if (!job) return;
+      current = null;
+      slots = slots.map((slot) => {
+        if (slot.chunk === null) return slot;
+        slot.worker.terminate();
+        return spawn();
+      });
+      job.reject(new JobCancelled());
+    },
+    /** Ends every worker. */
+    close() {
+      for (const slot of slots) slot.worker.terminate();
+      slots = [];
+      URL.revokeObjectURL(url);
+    },
+  };
+}

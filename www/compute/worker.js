@@ -1,0 +1,87 @@
+// One compute worker: its own instance of the core, its own copy of the dataset, and a
+// table of job kinds. Holds no numerics: every job is one core call on a row range.
+//
+// Messages in (handled strictly in order):
+//   {type: 'init', module}                     compiled WebAssembly.Module of the core
+//   {type: 'dataset', datasetId, bytes}        canonical .npz bytes (ArrayBuffer, transferred)
+//   {type: 'job', jobId, chunk, kind, datasetId, settings, j0, j1}
+// Messages out:
+//   {type: 'result', jobId, chunk, j0, j1, arrays: {name: TypedArray}, info}  (buffers transferred)
+//   {type: 'failed', jobId, chunk, message, panic}   panic = the core trapped; this worker is spent
+//   {type: 'fatal', message}                         init or dataset failed
+import init, * as wasm from '../pkg/sillage.js';
+
+/**
+ * Job kinds: name → (dataset, settings JSON, j0, j1) → {arrays, info}. Each returns named
+ * typed arrays holding rows j0..j1 of its maps, row-major; the pool puts them in place.
+ * A new kind (e.g. 'sensitivity') is one more entry calling its core function.
+ */
+const JOBS = {
+  ftle(dataset, settings, j0, j1) {
+    const r = dataset.ftleRows(settings, j0, j1);
+    return { arrays: { ftle: r.ftle, tau: r.tau, flag: r.flag }, info: JSON.parse(r.info) };
+  },
+  /** Panics inside the core on purpose (tests of the error path). */
+  self_test_panic() {
+    wasm.selfTestPanic();
+    return { arrays: {}, info: null };
+  },
+};
+
+let dataset = null;
+let datasetId = null;
+let spent = false;
+
+function describe(error) {
+  if (error instanceof WebAssembly.RuntimeError) {
+    spent = true;
+    return { message: wasm.takePanicMessage?.() ?? error.message, panic: true };
+  }
+  return { message: error instanceof Error ? error.message : String(error), panic: false };
+}
+
+async function handle(m) {
+  switch (m.type) {
+    case 'init':
+      try {
+        await init({ module_or_path: m.module });
+      } catch (error) {
+        self.postMessage({ type: 'fatal', message: `the core could not start in a worker: ${describe(error).message}` });
+      }
+      return;
+    case 'dataset':
+      try {
+        dataset?.free();
+        dataset = null;
+        dataset = new wasm.Dataset(['series.npz'], [new Uint8Array(m.bytes)]);
+        datasetId = m.datasetId;
+      } catch (error) {
+        self.postMessage({ type: 'fatal', message: `a worker could not read the dataset: ${describe(error).message}` });
+      }
+      return;
+    case 'job': {
+      const { jobId, chunk, kind, settings, j0, j1 } = m;
+      const fail = (message, panic = false) => self.postMessage({ type: 'failed', jobId, chunk, message, panic });
+      if (spent) return fail('this worker stopped after an internal error', true);
+      const run = JOBS[kind];
+      if (!run) return fail(`unknown job kind '${kind}'`);
+      if (!dataset || datasetId !== m.datasetId) return fail('the worker does not hold the dataset of this job');
+      try {
+        const { arrays, info } = run(dataset, settings, j0, j1);
+        const buffers = Object.values(arrays).map((a) => a.buffer);
+        self.postMessage({ type: 'result', jobId, chunk, j0, j1, arrays, info }, buffers);
+      } catch (error) {
+        const d = describe(error);
+        fail(d.message, d.panic);
+      }
+      return;
+    }
+    default:
+      self.postMessage({ type: 'fatal', message: `unknown message '${m.type}'` });
+  }
+}
+
+let queue = Promise.resolve();
+self.onmessage = (event) => {
+  queue = queue.then(() => handle(event.data));
+};
