@@ -22,6 +22,7 @@ pub mod field;
 pub mod io;
 pub mod lagrangian;
 pub mod modes;
+pub mod recipe;
 pub mod render;
 pub mod sensitivity;
 
