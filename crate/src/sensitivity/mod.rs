@@ -20,6 +20,7 @@
 //! the FTLE engine, so the CLI's threads and the page's workers split the work the same
 //! way. The brute-force comparator Δσ = σ_FTLE[f + εg] − σ_FTLE[f] is [`delta_ftle_rows`].
 
+mod agreement;
 pub mod analytic;
 mod error;
 mod export;
@@ -32,6 +33,7 @@ mod rows;
 mod trajectory;
 mod workflow;
 
+pub use agreement::{pearson, spearman, zeta_agreement, ZetaAgreement};
 pub use error::SensitivityError;
 pub use export::{sensitivity_npz, sensitivity_vti};
 pub use perturbed::{delta_ftle_rows, Perturbed};

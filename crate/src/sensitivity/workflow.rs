@@ -3,6 +3,7 @@
 //! plan that every driver runs on its own row ranges, and the assembled result with the
 //! FTLE ridges of f for overlay on ζ.
 
+use super::agreement::{zeta_agreement, ZetaAgreement};
 use super::perturbed::delta_ftle_rows;
 use super::reference::rms_speed;
 use super::rows::{sensitivity_rows, SensitivityOptions, SensitivityRows};
@@ -100,37 +101,9 @@ impl SensitivityResult {
         SensitivityResult { maps, delta_ftle, epsilon, ridges }
     }
 
-    /// Pearson correlation of ζ and Δσ over nodes integrated over the whole horizon, or
-    /// `None` without Δσ or with fewer than 3 such nodes.
-    pub fn zeta_delta_correlation(&self) -> Option<f64> {
-        let d = self.delta_ftle.as_ref()?;
-        let m = &self.maps;
-        let pairs: Vec<(f64, f64)> = m
-            .zeta
-            .iter()
-            .zip(d)
-            .zip(&m.flag)
-            .filter(|(_, &f)| f == crate::lagrangian::FtleFlag::Full)
-            .map(|((&z, &d), _)| (z as f64, d as f64))
-            .collect();
-        pearson(&pairs)
+    /// How well ζ predicts Δσ (see [`ZetaAgreement`]), when Δσ was computed.
+    pub fn zeta_agreement(&self) -> Option<ZetaAgreement> {
+        let flags: Vec<u8> = self.maps.flag.iter().map(|&f| f as u8).collect();
+        zeta_agreement(&self.maps.zeta, self.delta_ftle.as_ref()?, &flags)
     }
-}
-
-/// Pearson's correlation coefficient (textbook definition), `None` when undefined.
-pub(crate) fn pearson(pairs: &[(f64, f64)]) -> Option<f64> {
-    let n = pairs.len();
-    if n < 3 {
-        return None;
-    }
-    let (ma, mb) = pairs.iter().fold((0.0, 0.0), |(a, b), p| (a + p.0, b + p.1));
-    let (ma, mb) = (ma / n as f64, mb / n as f64);
-    let (mut sab, mut saa, mut sbb) = (0.0, 0.0, 0.0);
-    for &(a, b) in pairs {
-        sab += (a - ma) * (b - mb);
-        saa += (a - ma) * (a - ma);
-        sbb += (b - mb) * (b - mb);
-    }
-    let r = sab / (saa * sbb).sqrt();
-    r.is_finite().then_some(r)
 }

@@ -90,20 +90,7 @@ pub fn run(args: Args) -> Result<(), String> {
     write(&args.out, &npz(&r))?;
     println!("wrote {}", args.out.display());
     if let Some(path) = &args.vti {
-        let g = Grid { x: r.grid.x, y: r.grid.y };
-        let flag: Vec<f32> = r.flag.iter().map(|&f| f as u8 as f32).collect();
-        let bytes = write_vti(
-            &g,
-            &[
-                ("ftle", &r.ftle),
-                ("exit_time", &r.tau),
-                ("det_deviation", &r.det_deviation),
-                ("flag", &flag),
-            ],
-            &[],
-            Some(o.advect.t0),
-            None,
-        );
+        let bytes = vti(&r, o.advect.t0);
         write(path, &bytes)?;
         println!("wrote {}", path.display());
     }
@@ -130,7 +117,7 @@ pub fn run(args: Args) -> Result<(), String> {
 
 /// The ridges as JSON: units, when and how they were found, then one object per ridge
 /// (longest first) with its length and its points `[x, y]`.
-fn ridges_json(
+pub fn ridges_json(
     ridges: &[Ridge],
     opts: &RidgeOptions,
     units: &Units,
@@ -160,7 +147,7 @@ fn ridges_json(
 
 /// The ridges as CSV, one row per point: ridge number (longest first, from 0), point
 /// number along the ridge, x and y (the header names the unit).
-fn ridges_csv(ridges: &[Ridge], units: &Units) -> String {
+pub fn ridges_csv(ridges: &[Ridge], units: &Units) -> String {
     let mut text = match units.length.symbol() {
         "1" => "ridge,point,x,y\n".to_string(),
         unit => format!("ridge,point,x_{unit},y_{unit}\n"),
@@ -173,7 +160,7 @@ fn ridges_csv(ridges: &[Ridge], units: &Units) -> String {
     text
 }
 
-fn summarise(r: &FtleRows, secs: f64, units: &Units) {
+pub fn summarise(r: &FtleRows, secs: f64, units: &Units) {
     let rate = units.rate_label();
     let time = units.time.symbol();
     let s = &r.stats;
@@ -197,7 +184,26 @@ fn summarise(r: &FtleRows, secs: f64, units: &Units) {
     );
 }
 
-fn npz(r: &FtleRows) -> Vec<u8> {
+/// The maps as VTK image data at time `t0`.
+pub fn vti(r: &FtleRows, t0: f64) -> Vec<u8> {
+    let g = Grid { x: r.grid.x, y: r.grid.y };
+    let flag: Vec<f32> = r.flag.iter().map(|&f| f as u8 as f32).collect();
+    write_vti(
+        &g,
+        &[
+            ("ftle", &r.ftle),
+            ("exit_time", &r.tau),
+            ("det_deviation", &r.det_deviation),
+            ("flag", &flag),
+        ],
+        &[],
+        Some(t0),
+        None,
+    )
+}
+
+/// The maps as .npz.
+pub fn npz(r: &FtleRows) -> Vec<u8> {
     let (nx, ny) = (r.grid.nx(), r.grid.ny());
     let map = |name: &str, v: &[f32]| NpyArray::new(name, vec![ny, nx], NpyData::F32(v.to_vec()));
     write_arrays_npz(&[

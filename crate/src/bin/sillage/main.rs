@@ -10,6 +10,7 @@ mod inspect;
 mod lagrangian_args;
 mod modes;
 mod output;
+mod run;
 mod select;
 mod sensitivity;
 
@@ -47,6 +48,9 @@ enum Command {
     /// Model / mode sensitivity of the FTLE field: MS, MS_g, the strain bound, ξ, σ_MS and
     /// ζ = σ_MS − FTLE for a model flow f and a perturbation g (selections or files).
     Sensitivity(sensitivity::Args),
+    /// Replay a whole analysis from a recipe saved by the page (cleaning, modes, f and g,
+    /// FTLE, sensitivity, exports).
+    Run(run::Args),
 }
 
 fn main() -> ExitCode {
@@ -59,6 +63,7 @@ fn main() -> ExitCode {
         Command::Modes(a) => modes::run(a),
         Command::Select(a) => select::run(a),
         Command::Sensitivity(a) => sensitivity::run(a),
+        Command::Run(a) => run::run(a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -43,6 +43,16 @@ pub enum Solver {
 pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
+    #[command(flatten)]
+    pub settings: Settings,
+    /// Where to write the arrays (.npz).
+    #[arg(long, short, value_name = "FILE.npz")]
+    pub out: Option<PathBuf>,
+}
+
+/// How to decompose (shared with `sillage run`, which fills it from a recipe).
+#[derive(clap::Args, Debug)]
+pub struct Settings {
     /// Decomposition to compute.
     #[arg(long, value_enum, default_value_t = Method::Pod)]
     pub method: Method,
@@ -78,9 +88,25 @@ pub struct Args {
     /// Keep the time mean in the data (POD of the raw snapshots).
     #[arg(long)]
     pub keep_mean: bool,
-    /// Where to write the arrays (.npz).
-    #[arg(long, short, value_name = "FILE.npz")]
-    pub out: Option<PathBuf>,
+}
+
+impl Settings {
+    /// The command-line defaults with the given method and rank.
+    pub fn with(method: Method, rank: Option<usize>) -> Settings {
+        Settings {
+            method,
+            rank,
+            solver: Solver::Auto,
+            power_iterations: 2,
+            oversampling: 10,
+            seed: 0,
+            variant: Variant::Exact,
+            energy: None,
+            block: None,
+            overlap: None,
+            keep_mean: false,
+        }
+    }
 }
 
 fn f64s(name: &str, shape: Vec<usize>, v: Vec<f64>) -> NpyArray {
@@ -240,6 +266,17 @@ pub fn run(args: Args) -> Result<(), String> {
         }
     }
     let series = args.input.read()?;
+    let arrays = decompose(&series, &args.settings)?;
+    if let Some(out) = &args.out {
+        std::fs::write(out, write_arrays_npz(&arrays))
+            .map_err(|e| format!("cannot write '{}': {e}", out.display()))?;
+        println!("wrote {}", out.display());
+    }
+    Ok(())
+}
+
+/// Computes the decomposition, prints its summary and returns the arrays to write.
+pub fn decompose(series: &Series, args: &Settings) -> Result<Vec<NpyArray>, String> {
     let solver = match args.solver {
         Solver::Auto => PodSolver::Exact(SvdRoute::Auto),
         Solver::Snapshot => PodSolver::Exact(SvdRoute::Snapshot),
@@ -253,7 +290,7 @@ pub fn run(args: Args) -> Result<(), String> {
     let arrays = match args.method {
         Method::Pod => {
             let opts = PodOptions { rank: args.rank, solver, subtract_mean: !args.keep_mean };
-            let p = pod(&series, &opts).map_err(|e| e.to_string())?;
+            let p = pod(series, &opts).map_err(|e| e.to_string())?;
             println!(
                 "POD of {} snapshots, {} vector components: {} modes; energy of the first: {}",
                 series.nt(),
@@ -266,7 +303,7 @@ pub fn run(args: Args) -> Result<(), String> {
                     .collect::<Vec<_>>()
                     .join(", ")
             );
-            pod_arrays(&p, &series)
+            pod_arrays(&p, series)
         }
         Method::Dmd => {
             let rank = match (args.rank, args.energy) {
@@ -290,7 +327,7 @@ pub fn run(args: Args) -> Result<(), String> {
                 },
                 route,
             };
-            let d = dmd(&series, &opts).map_err(|e| e.to_string())?;
+            let d = dmd(series, &opts).map_err(|e| e.to_string())?;
             let f = d.frequencies();
             let lead: Vec<String> = (0..d.rank().min(6))
                 .map(|j| format!("{:.4} ({:+.3e})", f[j], d.growth_rates()[j]))
@@ -302,7 +339,7 @@ pub fn run(args: Args) -> Result<(), String> {
                 d.rank(),
                 lead.join(", ")
             );
-            dmd_arrays(&d, &series)
+            dmd_arrays(&d, series)
         }
         Method::Spod => {
             let opts = SpodOptions {
@@ -310,7 +347,7 @@ pub fn run(args: Args) -> Result<(), String> {
                 overlap: args.overlap,
                 modes: Some(args.rank.unwrap_or(3)),
             };
-            let sp = spod(&series, &opts).map_err(|e| e.to_string())?;
+            let sp = spod(series, &opts).map_err(|e| e.to_string())?;
             let lead: Vec<f64> = sp.energies.iter().map(|e| e[0]).collect();
             let peak = (1..lead.len()).max_by(|&a, &b| lead[a].total_cmp(&lead[b])).unwrap_or(0);
             println!(
@@ -324,13 +361,8 @@ pub fn run(args: Args) -> Result<(), String> {
                 sp.frequencies[1],
                 sp.frequencies[peak]
             );
-            spod_arrays(&sp, &series)
+            spod_arrays(&sp, series)
         }
     };
-    if let Some(out) = &args.out {
-        std::fs::write(out, write_arrays_npz(&arrays))
-            .map_err(|e| format!("cannot write '{}': {e}", out.display()))?;
-        println!("wrote {}", out.display());
-    }
-    Ok(())
+    Ok(arrays)
 }

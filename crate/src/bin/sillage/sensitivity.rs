@@ -136,10 +136,15 @@ pub fn summarise(r: &SensitivityResult, secs: f64, data: &Series) {
              the time they were integrated (see exit_time and flag)"
         );
     }
-    if let Some(c) = r.zeta_delta_correlation() {
+    if let Some(a) = r.zeta_agreement() {
         println!(
-            "correlation of ζ with Δσ (ε = {}) over fully integrated tracers: {c:.3}",
-            r.epsilon.unwrap_or(f64::NAN)
+            "ζ against Δσ (ε = {}) over {} fully integrated tracers: Pearson r {:.3} with Δσ, \
+             {:.3} with |Δσ|; Spearman ρ {:.3} with |Δσ|",
+            r.epsilon.unwrap_or(f64::NAN),
+            a.nodes,
+            a.pearson,
+            a.pearson_abs,
+            a.spearman_abs
         );
     }
 }
