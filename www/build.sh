@@ -51,3 +51,7 @@ else
   wasm-bindgen --target web --no-typescript --out-dir "$out" "$wasm"
 fi
 say "done: $(du -h "$out/sillage_bg.wasm" | cut -f1) module in www/pkg"
+
+# 5. The page as one self-contained file (www/dist/, git-ignored), offered by the page's
+#    "Download this page as one file" link.
+python3 "$root/www/build-single.py"

@@ -85,6 +85,62 @@ class Dataset {
   /** [x0, dx, y0, dy] of the data grid. */
   grid() { return Array.from(call(() => this.#inner.grid())); }
   get timeUnit() { return this.#inner.timeUnit; }
+  // --- cleaning, modes, sensitivity (views/clean_panel.js, modes_panel.js, sensitivity_panel.js)
+  get velocityUnit() { return this.#inner.velocityUnit; }
+  /** Missing vectors over all snapshots (modes need none: clean first). */
+  get gapCount() { return this.#inner.gapCount; }
+  /**
+   * Cleans a copy as `sillage clean` does (ε null = automatic, in the velocity unit).
+   * Returns {dataset: the cleaned Dataset, report: {outliers, gaps, …, text, warning}}.
+   */
+  clean(threshold, epsilon, passes) {
+    const c = call(() => this.#inner.clean(threshold, epsilon ?? undefined, passes));
+    try {
+      return { dataset: new Dataset(call(() => c.takeDataset()), this.names), report: JSON.parse(c.report()) };
+    } finally {
+      c.free();
+    }
+  }
+  /** The selection `text` materialized on this series, as canonical .npz bytes. */
+  selectionNpz(text) { return call(() => this.#inner.selectionNpz(text)); }
+  sensitivityUnit(id) { return call(() => this.#inner.sensitivityUnit(id)); }
+  /** A decomposition ({method: 'pod'|'dmd'|'spod', rank?}); call free() on it when done. */
+  decompose(request) { return new Modes(call(() => this.#inner.decompose(JSON.stringify(request)))); }
+  /** The wasm object, for core calls that take several datasets. */
+  static innerOf(dataset) { return dataset.#inner; }
+  // --- export ----------------------------------------------------------------------------
+  /** Field `quantity` of snapshot k as file bytes (Uint8Array); format npy, npz, csv or vti. */
+  exportField(quantity, k, format) { return call(() => this.#inner.exportField(quantity, k, format)); }
+  /** A computed map (`ftle`, `exit_time`) of a run with `settings` (an object) as file bytes. */
+  exportTransport(id, settings, values, flags, format) {
+    return call(() => this.#inner.exportTransport(id, JSON.stringify(settings), values, flags, format));
+  }
+  /** A reduced model of the series (mean + the first k POD modes), as .npz bytes. */
+  reducedModelNpz(k) { return call(() => this.#inner.reducedModelNpz(k)); }
+  free() { this.#inner.free(); }
+}
+
+/** A POD, DMD or SPOD of one series (crate/src/modes/overview.rs). */
+class Modes {
+  #inner;
+  constructor(inner) {
+    this.#inner = inner;
+    this.count = inner.count;
+  }
+  /** {method, count, pick_word, text, charts: [chart], pod} */
+  overview() { return JSON.parse(call(() => this.#inner.overview())); }
+  /** Mode k (0-based) as Float32Array (ny, nx) of 'u', 'v' or 'magnitude'. */
+  shape(k, component) { return call(() => this.#inner.shape(k, component)); }
+  shapeRange(k, component) { return Array.from(call(() => this.#inner.shapeRange(k, component))); }
+  shapeColormap(component) { return call(() => this.#inner.shapeColormap(component)); }
+  shapeImage(k, component, lo, hi) { return call(() => this.#inner.shapeImage(k, component, lo, hi)); }
+  /** The chart of mode k's temporal coefficients, or null (SPOD). */
+  coefficients(k) {
+    const text = call(() => this.#inner.coefficients(k));
+    return text === undefined ? null : JSON.parse(text);
+  }
+  term(k) { return call(() => this.#inner.term(k)); }
+  describe(k) { return call(() => this.#inner.describe(k)); }
   free() { this.#inner.free(); }
 }
 
@@ -95,6 +151,11 @@ const api = {
    */
   openDataset(files, options = {}) {
     const names = files.map((f) => f.name);
+    if (files.length === 1 && call(() => wasm.isReducedModel(files[0].bytes))) {
+      // A reduced model (mean + POD modes, written by "Share a reduced model"): the flow
+      // it stands for, rebuilt by the core; it is in SI units, so the options do not apply.
+      return new Dataset(call(() => wasm.Dataset.fromReducedModel(names[0], files[0].bytes)), names);
+    }
     const inner = call(() => new wasm.Dataset(
       names,
       files.map((f) => f.bytes),
@@ -122,16 +183,58 @@ const api = {
     return call(() => wasm.transportImage(id, values, flags, nx, ny, lo, hi));
   },
   transportRunWarnings(flags) { return JSON.parse(call(() => wasm.transportRunWarnings(flags))); },
+  // --- cleaning and sensitivity ---------------------------------------------------------
+  /** {threshold, passes} of the cleaning step (ε automatic). */
+  cleanDefaults() { return JSON.parse(call(() => wasm.cleanDefaults())); },
+  /** [{id, label, colormap, normalised, range_note}] of the sensitivity maps. */
+  sensitivityMaps() { return JSON.parse(call(() => wasm.sensitivityMaps())); },
+  sensitivityNormalisation() { return call(() => wasm.sensitivityNormalisation()); },
+  /** {warnings, g_ref, g_ref_text} before a run on (f, g); job = {transport, epsilon?, g_ref?}. */
+  sensitivityCheck(data, f, g, job) {
+    return JSON.parse(call(() => wasm.sensitivityCheck(Dataset.innerOf(data), Dataset.innerOf(f),
+      Dataset.innerOf(g), JSON.stringify(job))));
+  },
+  sensitivityRange(id, values, flags) { return Array.from(call(() => wasm.sensitivityRange(id, values, flags))); },
+  sensitivityImage(id, values, flags, nx, ny, lo, hi) {
+    return call(() => wasm.sensitivityImage(id, values, flags, nx, ny, lo, hi));
+  },
+  sensitivityRunWarnings(flags, msG) { return JSON.parse(call(() => wasm.sensitivityRunWarnings(flags, msG))); },
+  /** {nodes, pearson, pearson_abs, spearman_abs} of ζ against Δσ. */
+  sensitivityAgreement(zeta, delta, flags) {
+    return JSON.parse(call(() => wasm.sensitivityAgreement(zeta, delta, flags)));
+  },
+  // --- the analysis recipe (crate/src/recipe) ------------------------------------------------
+  /** Checks a recipe (JSON text); returns it in the core's layout (pretty JSON text). */
+  recipeNormalize(text) { return call(() => wasm.recipeNormalize(text)); },
+  /** An empty recipe (format, version, defaults) as JSON text. */
+  recipeEmpty() { return call(() => wasm.recipeEmpty()); },
+  /** The reading step for the reading options (as openDataset takes them), an object. */
+  recipeReading(options = {}) {
+    return JSON.parse(call(() => wasm.recipeReading(options.lengthUnit, options.timeUnit, options.dt)));
+  },
+  /** The text after `#recipe=` of a share link for a recipe (JSON text). */
+  recipeToFragment(text) { return call(() => wasm.recipeToFragment(text)); },
+  /** The recipe (pretty JSON text) carried by a share link's fragment. */
+  recipeFromFragment(fragment) { return call(() => wasm.recipeFromFragment(fragment)); },
   /** The compiled module, for workers to instantiate (set by loadCore). */
   module: null,
 };
 
 let loading = null;
 
-const WASM_URL = new URL('./pkg/sillage_bg.wasm', import.meta.url);
+/**
+ * What the single-file build (www/build-single.py) embeds in the page, or null when the
+ * page is served: {wasm: Uint8Array, workerUrl, ...}. Set before this module runs.
+ */
+export const embedded = globalThis.sillageEmbedded ?? null;
 
-/** Compiles the module once (streaming when the server sends application/wasm). */
+/**
+ * Compiles the module once (streaming when the server sends application/wasm); the
+ * single-file page compiles the bytes it carries instead (it cannot fetch anything).
+ */
 async function compile() {
+  if (embedded?.wasm) return WebAssembly.compile(embedded.wasm);
+  const WASM_URL = new URL('./pkg/sillage_bg.wasm', import.meta.url);
   try {
     return await WebAssembly.compileStreaming(fetch(WASM_URL));
   } catch {

@@ -1,6 +1,6 @@
 // Wires the page: the core, the state, the views and the user's inputs. Holds no numerics:
 // ranges, labels, pixels and summaries all come from the core (core.js).
-import { loadCore, CorePanic } from './core.js';
+import { loadCore, CorePanic, embedded } from './core.js';
 import { createStore } from './state.js';
 import { readFiles, setupFileSources } from './io/files.js';
 import { onPixelRatioChange } from './views/canvas.js';
@@ -12,6 +12,9 @@ import { createMessages } from './views/messages.js';
 import { createTransportPanel, showWarnings } from './views/transport_panel.js';
 import { attachNavigation } from './views/map_navigation.js';
 import { createPool, JobCancelled, JobFailed } from './compute/pool.js';
+import { createResultViews } from './views/result_views.js';
+import { createAnalysis } from './views/analysis.js';
+import { setupSharing, isRecipeFileList } from './io/sharing.js';
 
 const DEMO_URL = 'demo/fin-wake.npz';
 /** Playback pace: snapshots per second of wall-clock time. */
@@ -45,7 +48,9 @@ async function start() {
   }
   const quantities = core.quantities();
   const transportMaps = core.transportMaps();
-  const isTransport = (id) => transportMaps.some((m) => m.id === id);
+  // Views added by the cleaning/modes/sensitivity cards (views/analysis.js).
+  const resultViews = createResultViews();
+  const isTransport = (id) => transportMaps.some((m) => m.id === id) || resultViews.has(id);
   const params = new URLSearchParams(window.location.search);
   const pool = createPool({
     module: core.module,
@@ -73,6 +78,7 @@ async function start() {
 
   /** Recomputes the colour range for a state (the core decides it). */
   function rangeFor(s) {
+    if (resultViews.has(s.quantity)) return resultViews.get(s.quantity).range;
     if (isTransport(s.quantity)) return s.transport?.ranges[s.quantity] ?? null;
     return s.dataset ? s.dataset.defaultRange(s.quantity, s.k, s.scope) : null;
   }
@@ -134,11 +140,35 @@ async function start() {
         messages.clear();
         pool.setDataset(datasetId, dataset.canonicalNpz());
         applyDefaults(dataset);
+        sharing.datasetOpened(dataset, files);
       });
     }, 0));
   }
 
+  /**
+   * Makes `dataset` the working series (a cleaned copy, or the series as read again); the
+   * caller keeps or frees the previous one. The transport settings stay as they are.
+   */
+  function replaceDataset(dataset) {
+    if (store.get().running) pool.cancel();
+    const s = store.get();
+    const quantity = isTransport(s.quantity) ? quantities[0].id : s.quantity;
+    const k = Math.min(s.k, dataset.nt - 1);
+    const datasetId = s.datasetId + 1;
+    store.set({
+      dataset, datasetId, k, quantity, playing: false, transport: null,
+      range: rangeFor({ ...s, dataset, k, quantity }),
+    });
+    pool.setDataset(datasetId, dataset.canonicalNpz());
+    refreshWarnings(transportPanel.read());
+  }
+
   async function openFileList(fileList) {
+    if (isRecipeFileList(fileList)) {
+      // A .json file is a recipe (the analysis settings), not data.
+      sharing.openRecipeFile(fileList[0]);
+      return;
+    }
     const names = Array.from(fileList, (f) => f.name);
     const label = names.length === 1 ? names[0] : `${names.length} files`;
     const what = names.length === 1 ? 'the file' : 'the files';
@@ -166,7 +196,7 @@ async function start() {
       return;
     }
     const bytes = new Uint8Array(await response.arrayBuffer());
-    open([{ name: DEMO_URL.split('/').pop(), bytes }], 'the demo field');
+    open([{ name: DEMO_URL.split('/').pop(), bytes, demo: true }], 'the demo field');
   }
 
   // --- views --------------------------------------------------------------------------------
@@ -193,6 +223,7 @@ async function start() {
     resultGroup.append(option);
   }
   quantitySelect.append(resultGroup);
+  resultViews.attach(quantitySelect);
   $('show-ridges').addEventListener('change', () => store.set({ showRidges: $('show-ridges').checked }));
   $('show-arrows').addEventListener('change', () => guarded('draw the arrows',
     () => store.set({ showArrows: $('show-arrows').checked })));
@@ -224,7 +255,9 @@ async function start() {
     const { dataset } = s;
     const lengthUnit = dataset.lengthUnit;
     let view;
-    if (isTransport(s.quantity) && s.transport) {
+    if (resultViews.has(s.quantity)) {
+      view = resultViews.get(s.quantity).view(s);
+    } else if (isTransport(s.quantity) && s.transport) {
       const t = s.transport;
       const m = transportMaps.find((x) => x.id === s.quantity);
       const values = s.quantity === 'ftle' ? t.arrays.ftle : t.arrays.tau;
@@ -270,10 +303,11 @@ async function start() {
       window: s.window,
       lengthUnit,
       range: s.range,
-      ridges: s.showRidges && s.transport ? s.transport.ridges : null,
+      ridges: s.showRidges ? (view.ridges ?? s.transport?.ridges ?? resultViews.ridges()) : null,
       arrows: arrowsFor(s),
       ariaLabel: `${view.title}, ${view.caption}, colours from ${lo} to ${hi}${unitText}`
-        + `${s.showRidges && s.transport ? `, ${s.transport.ridges.length} FTLE ridges drawn` : ''}`,
+        + `${s.showRidges && (view.ridges ?? s.transport?.ridges ?? resultViews.ridges())
+          ? `, ${(view.ridges ?? s.transport?.ridges ?? resultViews.ridges()).length} FTLE ridges drawn` : ''}`,
     });
     const box = fieldMap.draw(view, figure.clientWidth - LEGEND_RESERVE);
     colorbar.draw(view, box);
@@ -283,15 +317,15 @@ async function start() {
     guarded('draw the field', () => {
       if (keys.has('dataset')) summary.draw(s.dataset ? s.dataset.summary() : null);
       if (keys.has('dataset') || keys.has('k') || keys.has('playing')) timeControl.draw(s);
-      if (['dataset', 'quantity', 'k', 'range', 'size', 'window', 'showRidges', 'showArrows', 'transport']
+      if (['dataset', 'quantity', 'k', 'range', 'size', 'window', 'showRidges', 'showArrows', 'transport', 'results']
         .some((key) => keys.has(key))) drawFigure(s);
       if (keys.has('quantity') || keys.has('transport')) {
         for (const m of transportMaps) quantitySelect.querySelector(`option[value="${m.id}"]`).disabled = !s.transport;
         quantitySelect.value = s.quantity;
         $('scope').disabled = isTransport(s.quantity);
       }
-      if (keys.has('transport')) {
-        $('show-ridges').disabled = !s.transport;
+      if (keys.has('transport') || keys.has('results')) {
+        $('show-ridges').disabled = !s.transport && !resultViews.hasRidges();
         drawReport(s);
       }
       if (keys.has('running') || keys.has('dataset')) transportPanel.setEnabled(!!s.dataset && !s.running);
@@ -431,6 +465,10 @@ async function start() {
     onDefaults: () => { const { dataset } = store.get(); if (dataset) applyDefaults(dataset); },
   });
   $('cancel-run').addEventListener('click', () => pool.cancel());
+  createAnalysis({
+    core, store, pool, messages, resultViews, replaceDataset, setView, describeFailure,
+    transportSettings: () => transportPanel.read(),
+  });
 
   // --- probe and navigation -------------------------------------------------------------------
 
@@ -443,7 +481,9 @@ async function start() {
     let label;
     let unit;
     let value = null;
-    if (isTransport(s.quantity) && s.transport) {
+    if (resultViews.has(s.quantity)) {
+      ({ label, unit, value } = resultViews.get(s.quantity).probe([x, y]));
+    } else if (isTransport(s.quantity) && s.transport) {
       const t = s.transport;
       const m = transportMaps.find((q) => q.id === s.quantity);
       label = m.label;
@@ -529,7 +569,23 @@ async function start() {
 
   summary.draw(null);
   timeControl.draw(store.get());
-  await openDemo();
+  // Export, recipe, settings kept across reloads and share links (io/sharing.js).
+  const sharing = setupSharing({
+    core,
+    store,
+    setView,
+    isTransport,
+    quantities,
+    transportMaps,
+    transportPanel,
+    refreshWarnings,
+    messages,
+    readOptions: options,
+    openDemo,
+    openFiles: open,
+    embedded,
+  });
+  await sharing.start();
 }
 
 start();

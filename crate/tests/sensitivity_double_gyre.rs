@@ -12,7 +12,7 @@
 use sillage::lagrangian::analytic::DoubleGyre;
 use sillage::lagrangian::{
     ftle_rows, integrate_rk4, AdvectOptions, BoundaryPolicy, FtleFlag, FtleOptions, GradientRoute,
-    Integrator, Mat2, Rect, Tracer, TracerGrid, Vec2, VelocityField,
+    Integrator, Rect, Tracer, TracerGrid, Vec2,
 };
 use sillage::sensitivity::analytic::Wobble;
 use sillage::sensitivity::{

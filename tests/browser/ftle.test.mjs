@@ -223,7 +223,9 @@ test('exit time, ridges, arrows, zoom, pan and the probe', async () => {
   h = await waitForNewDrawing(h);
   assert.match(await page.locator('#field-map').getAttribute('aria-label'), /^vorticity.*FTLE ridges drawn/);
 
-  // Zoom with the wheel about the middle of the plot, then pan by dragging.
+  // Zoom with the wheel about the middle of the plot, then pan by dragging. The side panel
+  // is taller than the window: clicking its lower controls scrolled the map out of view.
+  await page.locator('#field-map').scrollIntoViewIfNeeded();
   const box = await page.locator('#field-map').boundingBox();
   const cx = box.x + box.width / 2;
   const cy = box.y + box.height / 2;

@@ -25,10 +25,16 @@ export class JobFailed extends Error {
   }
 }
 
-const WORKER_URL = new URL('./worker.js', import.meta.url).href;
+/**
+ * The single-file page (www/build-single.py) carries the worker as one classic script:
+ * opened from file://, Chromium starts no module worker from a blob: URL.
+ */
+const EMBEDDED_SOURCE = globalThis.sillageEmbedded?.workerSource ?? null;
+const WORKER_TYPE = EMBEDDED_SOURCE ? 'classic' : 'module';
 
 function blobWorkerUrl() {
-  const source = `import ${JSON.stringify(WORKER_URL)};\n`;
+  const source = EMBEDDED_SOURCE
+    ?? `import ${JSON.stringify(new URL('./worker.js', import.meta.url).href)};\n`;
   return URL.createObjectURL(new Blob([source], { type: 'text/javascript' }));
 }
 
@@ -59,8 +65,19 @@ export function createPool({ module, size }) {
     post(slot, { type: 'dataset', datasetId: data.id, bytes: copy.buffer }, [copy.buffer]);
   }
 
+  // Extra series for jobs that need more than the dataset (sensitivity: the model flow f
+  // and the perturbation g), tagged so a job names the set it was planned with.
+  let auxiliary = null; // {tag, entries: {name: Uint8Array}}
+
+  function sendAuxiliary(slot) {
+    if (!auxiliary) return;
+    const names = Object.keys(auxiliary.entries);
+    const buffers = names.map((n) => auxiliary.entries[n].slice().buffer);
+    post(slot, { type: 'auxiliary', tag: auxiliary.tag, names, buffers }, buffers);
+  }
+
   function spawn() {
-    const slot = { worker: new Worker(url, { type: 'module', name: 'sillage-compute' }), chunk: null, fatal: null };
+    const slot = { worker: new Worker(url, { type: WORKER_TYPE, name: 'sillage-compute' }), chunk: null, fatal: null };
     slot.worker.onmessage = (event) => onMessage(slot, event.data);
     slot.worker.onerror = (event) => {
       event.preventDefault();
@@ -68,6 +85,7 @@ export function createPool({ module, size }) {
     };
     post(slot, { type: 'init', module });
     sendDataset(slot);
+    sendAuxiliary(slot);
     return slot;
   }
 
@@ -148,6 +166,14 @@ export function createPool({ module, size }) {
     setDataset(id, bytes) {
       data = { id, bytes };
       for (const slot of slots) sendDataset(slot);
+    },
+    /**
+     * Hands extra series to every worker: `entries` {name: canonical .npz bytes}, `tag` a
+     * number the job's settings repeat (the worker checks it). Replaces the previous set.
+     */
+    setAuxiliary(tag, entries) {
+      auxiliary = { tag, entries };
+      for (const slot of slots) sendAuxiliary(slot);
     },
     get busy() { return current !== null; },
     /**

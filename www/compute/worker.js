@@ -4,6 +4,7 @@
 // Messages in (handled strictly in order):
 //   {type: 'init', module}                     compiled WebAssembly.Module of the core
 //   {type: 'dataset', datasetId, bytes}        canonical .npz bytes (ArrayBuffer, transferred)
+//   {type: 'auxiliary', tag, names, buffers}  extra series (canonical .npz bytes, transferred)
 //   {type: 'job', jobId, chunk, kind, datasetId, settings, j0, j1}
 // Messages out:
 //   {type: 'result', jobId, chunk, j0, j1, arrays: {name: TypedArray}, info}  (buffers transferred)
@@ -21,6 +22,20 @@ const JOBS = {
     const r = dataset.ftleRows(settings, j0, j1);
     return { arrays: { ftle: r.ftle, tau: r.tau, flag: r.flag }, info: JSON.parse(r.info) };
   },
+  /**
+   * Sensitivity of the model flow f to the perturbation g (the auxiliary series 'f' and
+   * 'g'); settings = {aux: tag of the set, core: {transport, epsilon?, g_ref?}}.
+   */
+  sensitivity(_dataset, settings, j0, j1, aux) {
+    const s = JSON.parse(settings);
+    if (aux.tag !== s.aux || !aux.sets.f || !aux.sets.g) {
+      throw new Error('the worker does not hold the model flow and perturbation of this job');
+    }
+    const r = wasm.sensitivityRows(aux.sets.f, aux.sets.g, JSON.stringify(s.core), j0, j1);
+    const arrays = {};
+    for (const [name, value] of Object.entries(r)) if (name !== 'info') arrays[name] = value;
+    return { arrays, info: JSON.parse(r.info) };
+  },
   /** Panics inside the core on purpose (tests of the error path). */
   self_test_panic() {
     wasm.selfTestPanic();
@@ -30,6 +45,8 @@ const JOBS = {
 
 let dataset = null;
 let datasetId = null;
+/** Extra series by name ({tag, sets: {name: wasm.Dataset}}), for jobs that need them. */
+const aux = { tag: null, sets: {} };
 let spent = false;
 
 function describe(error) {
@@ -59,6 +76,19 @@ async function handle(m) {
         self.postMessage({ type: 'fatal', message: `a worker could not read the dataset: ${describe(error).message}` });
       }
       return;
+    case 'auxiliary':
+      try {
+        for (const d of Object.values(aux.sets)) d.free();
+        aux.sets = {};
+        aux.tag = null;
+        m.names.forEach((name, i) => {
+          aux.sets[name] = new wasm.Dataset([`${name}.npz`], [new Uint8Array(m.buffers[i])]);
+        });
+        aux.tag = m.tag;
+      } catch (error) {
+        self.postMessage({ type: 'fatal', message: `a worker could not read the series '${m.names.join(', ')}': ${describe(error).message}` });
+      }
+      return;
     case 'job': {
       const { jobId, chunk, kind, settings, j0, j1 } = m;
       const fail = (message, panic = false) => self.postMessage({ type: 'failed', jobId, chunk, message, panic });
@@ -67,7 +97,7 @@ async function handle(m) {
       if (!run) return fail(`unknown job kind '${kind}'`);
       if (!dataset || datasetId !== m.datasetId) return fail('the worker does not hold the dataset of this job');
       try {
-        const { arrays, info } = run(dataset, settings, j0, j1);
+        const { arrays, info } = run(dataset, settings, j0, j1, aux);
         const buffers = Object.values(arrays).map((a) => a.buffer);
         self.postMessage({ type: 'result', jobId, chunk, j0, j1, arrays, info }, buffers);
       } catch (error) {

@@ -21,6 +21,8 @@
 mod canonical;
 mod csv_out;
 mod error;
+mod field_out;
+mod fragment;
 mod natural;
 mod npy;
 mod npy_header;
@@ -32,6 +34,8 @@ mod vti;
 
 pub use csv_out::{write_csv_snapshot, write_csv_snapshot_untimed};
 pub use error::IoError;
+pub use field_out::{MapFormat, ScalarMap};
+pub use fragment::{base64url_decode, base64url_encode, pack_text, unpack_text, FragmentError};
 pub use natural::natural_cmp;
 pub use npy::{NpyArray, NpyData};
 pub use npz::{read_arrays_npz, read_npz_named, write_arrays_npz};

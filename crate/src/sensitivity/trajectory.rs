@@ -12,7 +12,7 @@
 //! the whole horizon: σ_FTLE from P₀ matches the FTLE map of the same settings.
 
 use super::quadrature::node_weights;
-use crate::lagrangian::{singular_values, Mat2, Vec2, VelocityField};
+use crate::lagrangian::{Mat2, Vec2, VelocityField};
 
 /// What the forward pass keeps at node k (one trajectory's storage is (N + 1) of these:
 /// memory is bounded by the horizon's step count, whatever the size of the tracer grid).
@@ -56,9 +56,22 @@ pub struct TrajectorySensitivity {
 /// rate is −λmin(S).
 #[inline]
 pub fn max_strain_rate(m: &Mat2, direction: f64) -> f64 {
-    let shear = (0.5 * (m[0][0] - m[1][1])).hypot(0.5 * (m[0][1] + m[1][0]));
+    let (a, b) = (0.5 * (m[0][0] - m[1][1]), 0.5 * (m[0][1] + m[1][0]));
+    // √(a² + b²) rather than hypot: velocity gradients are far from overflow, and hypot's
+    // extra care costs more than the rest of this function.
+    let shear = (a * a + b * b).sqrt();
     let div = 0.5 * (m[0][0] + m[1][1]);
     shear + direction.signum() * div
+}
+
+/// σ₁ of a 2×2 matrix, the closed form of `lagrangian::singular_values` with √ instead of
+/// hypot (entries of ∇F stay far below 1e150 for any horizon an FTLE can resolve).
+#[inline]
+fn largest_singular_value(m: &Mat2) -> f64 {
+    let (a, b, c, d) = (m[0][0], m[0][1], m[1][0], m[1][1]);
+    let p = ((a + d) * (a + d) + (c - b) * (c - b)).sqrt();
+    let q = ((a - d) * (a - d) + (b + c) * (b + c)).sqrt();
+    0.5 * (p + q)
 }
 
 #[inline]
@@ -205,7 +218,7 @@ fn sweep(nodes: &[Node], mid: &[f64], h: f64, end: Vec2) -> TrajectorySensitivit
     let w = node_weights(n, h.abs());
     let sign = h.signum();
     let last = &nodes[n];
-    let g_abs = |g: &Vec2| g[0].hypot(g[1]);
+    let g_abs = |g: &Vec2| (g[0] * g[0] + g[1] * g[1]).sqrt();
     let mut p = IDENTITY;
     let mut ms = w[n];
     let mut ms_g = w[n] * g_abs(&last.g);
@@ -217,7 +230,7 @@ fn sweep(nodes: &[Node], mid: &[f64], h: f64, end: Vec2) -> TrajectorySensitivit
         let node = &nodes[k];
         p = mul(&p, &node.phi);
         log_growth += h.abs() / 6.0 * (node.strain + 4.0 * mid[k] + nodes[k + 1].strain);
-        let norm = singular_values(p).0;
+        let norm = largest_singular_value(&p);
         ms += w[k] * norm;
         ms_g += w[k] * norm * g_abs(&node.g);
         let pg = mat_vec(&p, node.g);

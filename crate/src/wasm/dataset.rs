@@ -33,6 +33,20 @@ impl Dataset {
     pub(super) fn quality(&self) -> &DataQuality {
         self.quality.get_or_init(|| data_quality(&self.series))
     }
+
+    /// A dataset holding a series the core built rather than read (e.g. the flow a reduced
+    /// model stands for); `sources` name it in the summary.
+    pub(super) fn from_series(series: Series, sources: Vec<String>) -> Dataset {
+        let times = TimeFormat::for_series(&series);
+        Dataset { series, sources, times, quality: OnceCell::new() }
+    }
+
+    /// A dataset holding a series computed in the page (a cleaned copy of this one, a
+    /// selection of modes), with the same source names.
+    pub(super) fn derived(&self, series: Series) -> Dataset {
+        let times = TimeFormat::for_series(&series);
+        Dataset { series, sources: self.sources.clone(), times, quality: OnceCell::new() }
+    }
 }
 
 /// An optional text option: absent, empty or `auto` means "as the files say".

@@ -9,14 +9,29 @@
 //! pictures of computed maps, and `takePanicMessage`, which returns the message of a panic
 //! after a call trapped.
 
+mod clean;
 mod dataset;
 mod display;
+mod export;
+mod modes;
 mod panic;
+mod recipe;
+mod sensitivity;
 mod transport;
 
+pub use clean::{clean_defaults, Cleaning};
 pub use dataset::Dataset;
 pub use display::{colormap_rgba, format_number, mask_color, quantities, ticks};
+pub use export::is_reduced_model;
+pub use modes::Modes;
 pub use panic::take_panic_message;
+pub use recipe::{
+    recipe_empty, recipe_from_fragment, recipe_normalize, recipe_reading, recipe_to_fragment,
+};
+pub use sensitivity::{
+    sensitivity_agreement, sensitivity_check, sensitivity_image, sensitivity_maps,
+    sensitivity_normalisation, sensitivity_range, sensitivity_rows, sensitivity_run_warnings,
+};
 pub use transport::{
     self_test_panic, transport_image, transport_maps, transport_range, transport_run_warnings,
 };

@@ -1,0 +1,130 @@
+//! Cleaning bindings: the normalized median test and gap filling of [`crate::clean`] on the
+//! loaded series, giving a new `Dataset` (the page keeps the raw one to undo) and a short
+//! report.
+
+use super::js_error;
+use super::Dataset;
+use crate::clean::{clean, CleanOptions, CleanReport, MedianTest};
+use crate::render::format::{format_count, format_sig};
+use serde::Serialize;
+use wasm_bindgen::prelude::*;
+
+/// The outcome of a cleaning: the cleaned dataset (taken once) and the report.
+#[wasm_bindgen]
+pub struct Cleaning {
+    dataset: Option<Dataset>,
+    report: String,
+}
+
+#[wasm_bindgen]
+impl Cleaning {
+    /// The cleaned dataset; a second call fails.
+    #[wasm_bindgen(js_name = takeDataset)]
+    pub fn take_dataset(&mut self) -> Result<Dataset, JsError> {
+        self.dataset.take().ok_or_else(|| JsError::new("the cleaned dataset was already taken"))
+    }
+
+    /// The report as JSON `{outliers, gaps, unfilled, replaced, valid_vectors,
+    /// replaced_percent, passes_run, threshold, epsilon, text, warning}`.
+    pub fn report(&self) -> String {
+        self.report.clone()
+    }
+}
+
+#[derive(Serialize)]
+struct Summary {
+    outliers: usize,
+    gaps: usize,
+    unfilled: usize,
+    replaced: usize,
+    valid_vectors: usize,
+    replaced_percent: f64,
+    passes_run: usize,
+    threshold: f64,
+    epsilon: f64,
+    /// One sentence with every figure and its unit.
+    text: String,
+    /// The core's warning when many vectors were replaced.
+    warning: Option<String>,
+}
+
+fn summary(r: &CleanReport, velocity_unit: &str) -> Summary {
+    let pct = 100.0 * r.replaced_fraction;
+    let mut text = format!(
+        "{} outliers and {} missing vectors replaced: {} % of {} valid vectors, in {} pass{}; \
+         threshold {}, ε = {} {velocity_unit}.",
+        format_count(r.total_outliers()),
+        format_count(r.total_gaps()),
+        format_sig(pct, 3),
+        format_count(r.valid_cells),
+        r.passes_run,
+        if r.passes_run == 1 { "" } else { "es" },
+        format_sig(r.threshold, 3),
+        format_sig(r.epsilon, 3),
+    );
+    if r.unfilled > 0 {
+        text.push_str(&format!(
+            " {} vectors could not be filled (no valid vector near them) and stay missing.",
+            format_count(r.unfilled)
+        ));
+    }
+    Summary {
+        outliers: r.total_outliers(),
+        gaps: r.total_gaps(),
+        unfilled: r.unfilled,
+        replaced: r.replaced.len(),
+        valid_vectors: r.valid_cells,
+        replaced_percent: pct,
+        passes_run: r.passes_run,
+        threshold: r.threshold,
+        epsilon: r.epsilon,
+        text,
+        warning: r.warning(),
+    }
+}
+
+#[wasm_bindgen]
+impl Dataset {
+    /// Cleans the series as `sillage clean` does: outliers by the normalized median test
+    /// (`threshold`, `epsilon` in the series' velocity unit or absent for the automatic
+    /// value), at most `passes` detect-and-replace passes, gaps filled. This dataset is
+    /// unchanged.
+    pub fn clean(
+        &self,
+        threshold: f64,
+        epsilon: Option<f64>,
+        passes: usize,
+    ) -> Result<Cleaning, JsError> {
+        if !(threshold.is_finite() && threshold > 0.0) {
+            return Err(JsError::new(&format!(
+                "the threshold must be a positive number, not {threshold}"
+            )));
+        }
+        if let Some(e) = epsilon {
+            if !(e.is_finite() && e >= 0.0) {
+                return Err(JsError::new(&format!("ε must be zero or positive, not {e}")));
+            }
+        }
+        if passes == 0 {
+            return Err(JsError::new("at least one pass is needed"));
+        }
+        let opts = CleanOptions { test: MedianTest { threshold, epsilon }, passes };
+        let (cleaned, report) = clean(self.series(), &opts);
+        let unit = self.series().units().velocity_label();
+        let json = serde_json::to_string(&summary(&report, &unit)).map_err(js_error)?;
+        Ok(Cleaning { dataset: Some(self.derived(cleaned)), report: json })
+    }
+
+    /// Missing vectors over all snapshots (modes need 0: clean first).
+    #[wasm_bindgen(getter, js_name = gapCount)]
+    pub fn gap_count(&self) -> usize {
+        self.series().gap_count()
+    }
+}
+
+/// Defaults of the recipe's cleaning step as JSON `{threshold, passes}` (ε automatic).
+#[wasm_bindgen(js_name = cleanDefaults)]
+pub fn clean_defaults() -> String {
+    let d = crate::recipe::CleaningStep::default();
+    serde_json::json!({ "threshold": d.threshold, "passes": d.passes }).to_string()
+}

@@ -1,0 +1,115 @@
+// The cleaning card: the core's normalized median test and gap filling (`sillage clean`)
+// on the loaded series. The cleaned copy becomes the working series; the raw one is kept so
+// that "Undo cleaning" brings it back. The report's figures and warning come from the core.
+import { showWarnings } from './transport_panel.js';
+
+const $ = (id) => document.getElementById(id);
+
+/** Text → number for the core; '' → null (the core's automatic value). */
+function numberOrNull(text) {
+  const t = text.trim().replace(',', '.').replace('\u2212', '-');
+  return t === '' ? null : Number(t);
+}
+
+export function createCleanPanel(ctx) {
+  const { core, store, messages } = ctx;
+  const form = $('clean-form');
+  const threshold = $('cl-threshold');
+  const passes = $('cl-passes');
+  const epsilon = $('cl-epsilon');
+  const run = $('clean-run');
+  const undo = $('clean-undo');
+  const report = $('clean-report');
+  const warnings = $('clean-warnings');
+  const defaults = core.cleanDefaults();
+  threshold.value = String(defaults.threshold);
+  passes.value = String(defaults.passes);
+
+  let raw = null; // the series as read, while a cleaned copy is the working one
+  let expected = null; // the dataset this panel put in place last
+
+  function setStatus(state) { document.body.dataset.clean = state; }
+
+  function describeData(dataset) {
+    if (!dataset) return;
+    $('cl-epsilon-unit').textContent = dataset.velocityUnit === '1' ? '' : dataset.velocityUnit;
+    const gaps = dataset.gapCount;
+    if (gaps > 0) {
+      report.textContent = `The series has ${gaps} missing vectors. Modes and sensitivity need `
+        + 'complete snapshots: clean first.';
+    } else {
+      report.textContent = 'No missing vectors. Cleaning replaces spurious vectors found by the '
+        + 'normalized median test.';
+    }
+    showWarnings(warnings, []);
+  }
+
+  function sync() {
+    const s = store.get();
+    run.disabled = !s.dataset || s.running;
+    undo.disabled = !raw || s.running;
+  }
+
+  store.subscribe((s, keys) => {
+    if (keys.has('dataset') && s.dataset !== expected) {
+      // A new file was opened: the kept raw series belongs to the old one.
+      raw?.free();
+      raw = null;
+      expected = null;
+      setStatus('');
+      describeData(s.dataset);
+    }
+    if (keys.has('dataset') || keys.has('running')) sync();
+  });
+
+  form.addEventListener('submit', (e) => {
+    e.preventDefault();
+    const { dataset, running } = store.get();
+    if (!dataset || running) return;
+    messages.info('Cleaning the series…');
+    setStatus('running');
+    // Let the message paint before the (synchronous) core call.
+    requestAnimationFrame(() => setTimeout(() => {
+      try {
+        // Cleaning always starts from the series as read, so options do not compound.
+        const source = raw ?? dataset;
+        const th = numberOrNull(threshold.value);
+        const out = source.clean(th ?? Number.NaN, numberOrNull(epsilon.value), Number(passes.value.trim() || Number.NaN));
+        const previous = raw ? dataset : null;
+        raw = source;
+        expected = out.dataset;
+        ctx.replaceDataset(out.dataset);
+        previous?.free();
+        report.textContent = `Cleaned: ${out.report.text}`;
+        showWarnings(warnings, out.report.warning
+          ? [{ level: 'caution', code: 'many_replaced', text: out.report.warning }] : []);
+        messages.clear();
+        setStatus('done');
+      } catch (error) {
+        messages.error(ctx.describeFailure(error, 'clean the series'));
+        setStatus('failed');
+      }
+      sync();
+    }, 0));
+  });
+
+  undo.addEventListener('click', () => {
+    const { dataset, running } = store.get();
+    if (!raw || running) return;
+    const cleaned = dataset;
+    expected = raw;
+    const back = raw;
+    raw = null;
+    ctx.replaceDataset(back);
+    cleaned.free();
+    describeData(back);
+    report.textContent = `Back to the series as read. ${report.textContent}`;
+    setStatus('undone');
+    sync();
+  });
+
+  return {
+    /** The kept raw series (null when the working series is not a cleaned copy). */
+    get raw() { return raw; },
+  };
+}
