@@ -20,13 +20,14 @@ use crate::lagrangian::{Mat2, Vec2, VelocityField};
 struct Node {
     /// x(t_k).
     x: Vec2,
-    /// f and ∇f at (x(t_k), t_k).
-    u: Vec2,
+    /// ∇f at (x(t_k), t_k).
     grad: Mat2,
     /// Φ_k = ∇F_{t_k}^{t_{k+1}} (identity at the last node).
     phi: Mat2,
     /// g(x(t_k), t_k).
     g: Vec2,
+    /// λmax(S) at the middle of step k (unused at the last node).
+    mid: f64,
     /// Largest eigenvalue of the rate-of-strain tensor of the flow in the direction of
     /// integration at (x(t_k), t_k).
     strain: f64,
@@ -89,7 +90,8 @@ fn mat_vec(a: &Mat2, v: Vec2) -> Vec2 {
 
 const IDENTITY: Mat2 = [[1.0, 0.0], [0.0, 1.0]];
 
-/// One RK4 step of (x, M) from (x, I): the new position, Φ, and f and ∇f at the start.
+/// One RK4 step of (x, M) from (x, I): the new position, Φ, ∇f at the start and λmax(S)
+/// at mid-step.
 /// Same stages and weights as `lagrangian::rk4_step` on the `Tangent` system.
 #[inline]
 fn tangent_step<F: VelocityField>(
@@ -97,7 +99,7 @@ fn tangent_step<F: VelocityField>(
     t: f64,
     h: f64,
     x: Vec2,
-) -> Option<(Vec2, Mat2, Vec2, Mat2)> {
+) -> Option<(Vec2, Mat2, Mat2, f64)> {
     let (u1, g1) = f.velocity_gradient(x, t)?;
     let k1 = g1;
     let x2 = [x[0] + 0.5 * h * u1[0], x[1] + 0.5 * h * u1[1]];
@@ -123,7 +125,14 @@ fn tangent_step<F: VelocityField>(
             phi[r][s] += c * (k1[r][s] + 2.0 * k2[r][s] + 2.0 * k3[r][s] + k4[r][s]);
         }
     }
-    Some((xn, phi, u1, g1))
+    // Strain at mid-step from the two middle stages: their points x ± O(h²) lie
+    // symmetrically about x(t + h/2), so the mean of their gradients is the midpoint
+    // gradient to O(h⁴) on a smooth field, without another sample.
+    let mean = [
+        [0.5 * (g2[0][0] + g3[0][0]), 0.5 * (g2[0][1] + g3[0][1])],
+        [0.5 * (g2[1][0] + g3[1][0]), 0.5 * (g2[1][1] + g3[1][1])],
+    ];
+    Some((xn, phi, g1, max_strain_rate(&mean, h)))
 }
 
 #[inline]
@@ -157,20 +166,20 @@ pub fn trajectory<F: VelocityField, G: VelocityField>(
     for k in 0..n {
         let t = t0 + k as f64 * h;
         let Some(gk) = g.velocity(x, t) else { break };
-        let Some((xn, phi, u, grad)) = tangent_step(f, t, h, x) else { break };
-        nodes.push(Node { x, phi, g: gk, u, grad, strain: max_strain_rate(&grad, h) });
+        let Some((xn, phi, grad, mid)) = tangent_step(f, t, h, x) else { break };
+        nodes.push(Node { x, phi, g: gk, grad, strain: max_strain_rate(&grad, h), mid });
         x = xn;
     }
     // The end node needs g and ∇f too. Every stored node had both at its own position, so
     // when the end lacks them, ending one step earlier always works.
     let t_end = t0 + nodes.len() as f64 * h;
     let end = g.velocity(x, t_end).zip(f.velocity_gradient(x, t_end));
-    let (g_end, u_end, grad_end) = match end {
-        Some((g_end, (u_end, grad_end))) => (g_end, u_end, grad_end),
+    let (g_end, grad_end) = match end {
+        Some((g_end, (_, grad_end))) => (g_end, grad_end),
         None => {
             let back = nodes.pop()?;
             x = back.x;
-            (back.g, back.u, back.grad)
+            (back.g, back.grad)
         }
     };
     if nodes.is_empty() {
@@ -180,40 +189,15 @@ pub fn trajectory<F: VelocityField, G: VelocityField>(
         x,
         phi: IDENTITY,
         g: g_end,
-        u: u_end,
         grad: grad_end,
         strain: max_strain_rate(&grad_end, h),
+        mid: 0.0,
     });
-    let mid = midpoint_strain(f, nodes, t0, h);
-    Some(sweep(nodes, &mid, h, x))
-}
-
-/// λmax at the middle of every step, at the cubic Hermite midpoint of the step's ends
-/// x_m = (x_k + x_{k+1})/2 + h(u_k − u_{k+1})/8 (fourth-order accurate), so the strain
-/// integral can use Simpson's rule per step. The trapezoid on the nodes alone under-reads
-/// it by O(h²), enough to put the "bound" a few parts per million under MS where it is
-/// nearly sharp (seen on the double gyre's boundary). Falls back to the trapezoid where f
-/// is undefined at the midpoint.
-fn midpoint_strain<F: VelocityField>(f: &F, nodes: &[Node], t0: f64, h: f64) -> Vec<f64> {
-    nodes
-        .windows(2)
-        .enumerate()
-        .map(|(k, w)| {
-            let (a, b) = (&w[0], &w[1]);
-            let xm = [
-                0.5 * (a.x[0] + b.x[0]) + 0.125 * h * (a.u[0] - b.u[0]),
-                0.5 * (a.x[1] + b.x[1]) + 0.125 * h * (a.u[1] - b.u[1]),
-            ];
-            match f.velocity_gradient(xm, t0 + (k as f64 + 0.5) * h) {
-                Some((_, grad)) => max_strain_rate(&grad, h),
-                None => 0.5 * (a.strain + b.strain),
-            }
-        })
-        .collect()
+    Some(sweep(nodes, h, x))
 }
 
 /// The backward sweep over nodes 0..=N (the last holds Φ = I).
-fn sweep(nodes: &[Node], mid: &[f64], h: f64, end: Vec2) -> TrajectorySensitivity {
+fn sweep(nodes: &[Node], h: f64, end: Vec2) -> TrajectorySensitivity {
     let n = nodes.len() - 1;
     let w = node_weights(n, h.abs());
     let sign = h.signum();
@@ -229,7 +213,7 @@ fn sweep(nodes: &[Node], mid: &[f64], h: f64, end: Vec2) -> TrajectorySensitivit
     for k in (0..n).rev() {
         let node = &nodes[k];
         p = mul(&p, &node.phi);
-        log_growth += h.abs() / 6.0 * (node.strain + 4.0 * mid[k] + nodes[k + 1].strain);
+        log_growth += h.abs() / 6.0 * (node.strain + 4.0 * node.mid + nodes[k + 1].strain);
         let norm = largest_singular_value(&p);
         ms += w[k] * norm;
         ms_g += w[k] * norm * g_abs(&node.g);
