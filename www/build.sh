@@ -35,8 +35,14 @@ fi
 
 # 3. The module (release: optimised and smaller), without the command-line features. The
 #    library is an rlib for every other build; only this one asks for a cdylib.
-say "cargo rustc (wasm32, release, cdylib)"
-cargo rustc -p sillage --lib --release --target wasm32-unknown-unknown --no-default-features \
+#    SILLAGE_WASM_OPT_LEVEL (e.g. s or z) overrides the release opt-level for this build only,
+#    for size/speed measurements (BENCHMARKS.md, "Transfer size"); the default keeps speed.
+opt=()
+if [ -n "${SILLAGE_WASM_OPT_LEVEL:-}" ]; then
+  opt=(--config "profile.release.opt-level=\"$SILLAGE_WASM_OPT_LEVEL\"")
+fi
+say "cargo rustc (wasm32, release${SILLAGE_WASM_OPT_LEVEL:+, opt-level $SILLAGE_WASM_OPT_LEVEL}, cdylib)"
+cargo rustc "${opt[@]}" -p sillage --lib --release --target wasm32-unknown-unknown --no-default-features \
   --crate-type cdylib
 
 # 4. JavaScript glue for ES modules, only when the module changed.
@@ -48,7 +54,10 @@ if [ -f "$out/sillage_bg.wasm" ] && [ "$out/sillage_bg.wasm" -nt "$wasm" ] && [ 
   say "www/pkg is up to date"
 else
   say "wasm-bindgen --target web → www/pkg"
-  wasm-bindgen --target web --no-typescript --out-dir "$out" "$wasm"
+  # The name and producers sections only help debuggers and profilers; dropping them saves
+  # about a tenth of the module (panic messages keep their text: they are data, not names).
+  wasm-bindgen --target web --no-typescript --remove-name-section --remove-producers-section \
+    --out-dir "$out" "$wasm"
 fi
 say "done: $(du -h "$out/sillage_bg.wasm" | cut -f1) module in www/pkg"
 

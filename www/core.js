@@ -115,6 +115,17 @@ class Dataset {
   exportTransport(id, settings, values, flags, format) {
     return call(() => this.#inner.exportTransport(id, JSON.stringify(settings), values, flags, format));
   }
+  /** Sensitivity map `id` of a run (transport settings as JSON text) as file bytes. */
+  exportSensitivity(id, settingsJson, values, flags, format) {
+    return call(() => this.#inner.exportSensitivity(id, settingsJson, values, flags, format));
+  }
+  /**
+   * Every map of a sensitivity run as .npz bytes in the `sillage sensitivity --out` layout:
+   * the run's settings JSON text, the g_ref it used and its arrays {name: TypedArray}.
+   */
+  sensitivityNpz(jobJson, gRef, arrays) {
+    return call(() => this.#inner.sensitivityNpz(jobJson, gRef, arrays));
+  }
   /** A reduced model of the series (mean + the first k POD modes), as .npz bytes. */
   reducedModelNpz(k) { return call(() => this.#inner.reducedModelNpz(k)); }
   free() { this.#inner.free(); }
@@ -139,6 +150,8 @@ class Modes {
     const text = call(() => this.#inner.coefficients(k));
     return text === undefined ? null : JSON.parse(text);
   }
+  /** Mode k's component as file bytes (npy, npz, csv, vti), unit-norm values. */
+  exportShape(k, component, format) { return call(() => this.#inner.exportShape(k, component, format)); }
   term(k) { return call(() => this.#inner.term(k)); }
   describe(k) { return call(() => this.#inner.describe(k)); }
   free() { this.#inner.free(); }

@@ -55,6 +55,7 @@ async function start() {
   const pool = createPool({
     module: core.module,
     size: Number(params.get('workers')) || navigator.hardwareConcurrency || 1,
+    onGiveUp: (text) => messages.error(text),
   });
   const store = createStore({
     dataset: null,
@@ -577,6 +578,7 @@ async function start() {
     isTransport,
     quantities,
     transportMaps,
+    resultViews,
     transportPanel,
     refreshWarnings,
     messages,

@@ -299,7 +299,7 @@ test('the new controls are labelled and reachable with Tab', async () => {
     'reset-zoom', 'field-map'];
   await page.locator('body').focus();
   const reached = new Set();
-  for (let i = 0; i < 45; i += 1) {
+  for (let i = 0; i < 60; i += 1) {
     await page.keyboard.press('Tab');
     reached.add(await page.evaluate(() => document.activeElement?.id || document.activeElement?.tagName));
   }

@@ -38,6 +38,12 @@ function blobWorkerUrl() {
   return URL.createObjectURL(new Blob([source], { type: 'text/javascript' }));
 }
 
+/**
+ * Starts of one worker slot that may fail in a row (the script does not load, the core does
+ * not start) before the pool gives up instead of restarting it again and again.
+ */
+export const MAX_START_ATTEMPTS = 3;
+
 /** Rows per chunk: about four chunks per worker, at most 16 rows, at least 1. */
 export function chunkRows(rows, workers) {
   return Math.max(1, Math.min(16, Math.ceil(rows / (4 * workers))));
@@ -45,15 +51,18 @@ export function chunkRows(rows, workers) {
 
 /**
  * Creates a pool of `size` workers (default: navigator.hardwareConcurrency, at least 1)
- * running the compiled core `module` (a WebAssembly.Module).
+ * running the compiled core `module` (a WebAssembly.Module). When a worker fails to start
+ * MAX_START_ATTEMPTS times in a row, the pool stops all workers, rejects the running job and
+ * every later one with JobFailed, and calls `onGiveUp(message)` once.
  */
-export function createPool({ module, size }) {
+export function createPool({ module, size, onGiveUp }) {
   const count = Math.max(1, Math.floor(size ?? navigator.hardwareConcurrency ?? 1) || 1);
   const url = blobWorkerUrl();
   let data = null; // {id, bytes: Uint8Array}
   let slots = [];
   let current = null; // the running job
   let nextJobId = 1;
+  let broken = null; // the reason, once the pool gave up on starting workers
 
   function post(slot, message, transfer = []) {
     slot.worker.postMessage(message, transfer);
@@ -76,12 +85,21 @@ export function createPool({ module, size }) {
     post(slot, { type: 'auxiliary', tag: auxiliary.tag, names, buffers }, buffers);
   }
 
-  function spawn() {
-    const slot = { worker: new Worker(url, { type: WORKER_TYPE, name: 'sillage-compute' }), chunk: null, fatal: null };
+  /** Starts a worker; `attempt` counts the starts of this slot since its worker last came up. */
+  function spawn(attempt = 1) {
+    const slot = {
+      worker: new Worker(url, { type: WORKER_TYPE, name: 'sillage-compute' }),
+      chunk: null,
+      fatal: null,
+      ready: false,
+      attempt,
+    };
     slot.worker.onmessage = (event) => onMessage(slot, event.data);
     slot.worker.onerror = (event) => {
       event.preventDefault();
-      onBroken(slot, `a compute worker stopped: ${event.message || 'script error'}`);
+      onBroken(slot, slot.ready
+        ? `a compute worker stopped: ${event.message || 'script error'}`
+        : `the worker script could not be loaded, or stopped while starting (${event.message || 'the browser gives no details'})`);
     };
     post(slot, { type: 'init', module });
     sendDataset(slot);
@@ -89,29 +107,69 @@ export function createPool({ module, size }) {
     return slot;
   }
 
-  function replace(slot) {
+  /** Stops every worker for good: they cannot start (see MAX_START_ATTEMPTS). */
+  function giveUp(reason) {
+    broken = `The compute workers could not be started (${MAX_START_ATTEMPTS} attempts): `
+      + `${reason}. Computations need them; reload the page to try again.`;
+    for (const s of slots) s.worker.terminate();
+    slots = [];
+    const job = current;
+    if (job) finish(job, new JobFailed(broken, false));
+    onGiveUp?.(broken);
+  }
+
+  /** Replaces a slot's worker; returns false when the pool gave up instead. */
+  function replace(slot, reason) {
     slot.worker.terminate();
     const i = slots.indexOf(slot);
-    if (i >= 0) slots[i] = spawn();
+    if (i < 0) return false;
+    const attempt = slot.ready ? 1 : slot.attempt + 1;
+    if (attempt > MAX_START_ATTEMPTS) {
+      giveUp(reason);
+      return false;
+    }
+    slots[i] = spawn(attempt);
+    return true;
   }
 
   function onBroken(slot, message) {
+    if (broken) return;
     const job = current;
-    replace(slot);
-    if (job && slot.chunk) finish(job, new JobFailed(message, true));
+    const chunk = slot.chunk;
+    const started = slot.ready;
+    if (!replace(slot, message)) return;
+    if (!job || chunk === null) return;
+    if (started) {
+      finish(job, new JobFailed(message, true));
+    } else {
+      // The worker never came up: its chunk goes to the fresh one (which gets the job after
+      // its own init and data, in order).
+      job.retry.push(chunk);
+      dispatch(slots.find((s) => s.chunk === null && !s.ready) ?? slots[0], job);
+    }
   }
 
   function onMessage(slot, m) {
+    if (broken) return;
+    if (m.type === 'ready') {
+      slot.ready = true;
+      slot.attempt = 1;
+      return;
+    }
     if (m.type === 'fatal') {
       slot.fatal = m.message;
-      if (current && slot.chunk) onBroken(slot, m.message);
+      if (!slot.ready) {
+        onBroken(slot, m.message); // the core did not start in it: try a fresh worker
+      } else if (current && slot.chunk !== null) {
+        onBroken(slot, m.message);
+      }
       return;
     }
     const job = current;
     if (!job || m.jobId !== job.id) return; // a late answer to a finished or failed job
     slot.chunk = null;
     if (m.type === 'failed') {
-      if (m.panic) replace(slot);
+      if (m.panic) replace(slot, m.message);
       finish(job, new JobFailed(m.message, m.panic));
       return;
     }
@@ -140,9 +198,15 @@ export function createPool({ module, size }) {
   }
 
   function dispatch(slot, job) {
-    if (job.next >= job.chunks.length || current !== job) return;
-    const chunk = job.next;
-    job.next += 1;
+    if (current !== job || slot.chunk !== null) return;
+    let chunk;
+    if (job.retry.length > 0) {
+      chunk = job.retry.shift();
+    } else {
+      if (job.next >= job.chunks.length) return;
+      chunk = job.next;
+      job.next += 1;
+    }
     const [j0, j1] = job.chunks[chunk];
     slot.chunk = chunk;
     post(slot, {
@@ -176,6 +240,8 @@ export function createPool({ module, size }) {
       for (const slot of slots) sendAuxiliary(slot);
     },
     get busy() { return current !== null; },
+    /** The reason the pool stopped for good (workers that cannot start), or null. */
+    get broken() { return broken; },
     /**
      * Runs job `kind` with `settings` (a JSON string) over `rows` rows. Resolves to
      * {arrays: {name: TypedArray (rows × width)}, info: [per-chunk info], seconds}; rejects
@@ -183,6 +249,7 @@ export function createPool({ module, size }) {
      * remaining})` follows each chunk. One job at a time.
      */
     run({ kind, settings, rows, onProgress }) {
+      if (broken) return Promise.reject(new JobFailed(broken, false));
       if (current) return Promise.reject(new Error('a computation is already running'));
       if (!data) return Promise.reject(new Error('no dataset is loaded'));
       const step = chunkRows(rows, count);
@@ -191,7 +258,7 @@ export function createPool({ module, size }) {
       return new Promise((resolve, reject) => {
         const job = {
           id: nextJobId++, kind, settings, rows, chunks, next: 0, doneRows: 0, doneChunks: 0,
-          arrays: {}, info: [], start: performance.now(), onProgress, resolve, reject,
+          arrays: {}, info: [], retry: [], start: performance.now(), onProgress, resolve, reject,
         };
         current = job;
         for (const slot of slots) dispatch(slot, job);

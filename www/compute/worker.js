@@ -7,6 +7,7 @@
 //   {type: 'auxiliary', tag, names, buffers}  extra series (canonical .npz bytes, transferred)
 //   {type: 'job', jobId, chunk, kind, datasetId, settings, j0, j1}
 // Messages out:
+//   {type: 'ready'}                                  the core started (after 'init')
 //   {type: 'result', jobId, chunk, j0, j1, arrays: {name: TypedArray}, info}  (buffers transferred)
 //   {type: 'failed', jobId, chunk, message, panic}   panic = the core trapped; this worker is spent
 //   {type: 'fatal', message}                         init or dataset failed
@@ -62,6 +63,7 @@ async function handle(m) {
     case 'init':
       try {
         await init({ module_or_path: m.module });
+        self.postMessage({ type: 'ready' });
       } catch (error) {
         self.postMessage({ type: 'fatal', message: `the core could not start in a worker: ${describe(error).message}` });
       }

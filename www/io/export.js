@@ -44,8 +44,9 @@ function slug(text) {
 }
 
 /**
- * What the page shows for state `s`: {kind: 'series'|'transport', id, label, unit, when,
- * stem} or null when nothing is drawn. `maps` = {quantities, transportMaps} of the core.
+ * What the page shows for state `s`: {kind: 'series'|'transport'|'result', id, label, unit,
+ * when, stem, entry?} or null when nothing is drawn. `maps` = {quantities, transportMaps} of
+ * the core and the page's `resultViews` (maps added by the cards: sensitivity, mode shape).
  */
 export function describeShown(core, s, maps) {
   if (!s.dataset || !s.range) return null;
@@ -59,15 +60,20 @@ export function describeShown(core, s, maps) {
       + `|T| = ${core.formatNumber(t.settings.horizon, 3)}${tu}`;
     return { kind: 'transport', id: s.quantity, label: transport.label, unit, when, stem: `sillage-${slug(s.quantity)}` };
   }
-  const q = maps.quantities.find((x) => x.id === s.quantity);
-  if (!q) {
-    // A map another card put in the field menu: the picture works, the numbers not (yet).
-    const option = document.querySelector(`#quantity option[value="${CSS.escape(s.quantity)}"]`);
+  const entry = maps.resultViews?.get(s.quantity);
+  if (entry) {
     return {
-      kind: 'other', id: s.quantity, label: option?.textContent ?? s.quantity, unit: '1', when: '',
-      stem: `sillage-${slug(s.quantity)}`,
+      kind: 'result',
+      id: s.quantity,
+      label: entry.label,
+      unit: entry.unit ?? '1',
+      when: entry.when ?? '',
+      stem: `sillage-${slug(entry.stem ?? s.quantity)}`,
+      entry,
     };
   }
+  const q = maps.quantities.find((x) => x.id === s.quantity);
+  if (!q) return null;
   return {
     kind: 'series',
     id: s.quantity,
@@ -80,8 +86,11 @@ export function describeShown(core, s, maps) {
 
 /** The map's numbers as file bytes in `format`, written by the core. */
 export function mapBytes(s, shown, format) {
-  if (shown.kind === 'other') {
-    throw new Error(`the numbers of “${shown.label}” cannot be saved from here yet; its picture can`);
+  if (shown.kind === 'result') {
+    if (!shown.entry.exportBytes) {
+      throw new Error(`the numbers of “${shown.label}” cannot be saved from here; its picture can`);
+    }
+    return shown.entry.exportBytes(format);
   }
   if (shown.kind === 'transport') {
     const t = s.transport;

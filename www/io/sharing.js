@@ -21,7 +21,7 @@ export function isRecipeFileList(files) {
 
 /**
  * Wires the card. `page` gives what main.js owns: {core, store, setView, isTransport,
- * quantities, transportMaps, transportPanel, refreshWarnings, messages, readOptions(),
+ * quantities, transportMaps, resultViews, transportPanel, refreshWarnings, messages, readOptions(),
  * openDemo(), openFiles(files, label), embedded}.
  */
 export function setupSharing(page) {
@@ -208,7 +208,9 @@ export function setupSharing(page) {
 
   function shown() {
     const s = store.get();
-    const what = describeShown(core, s, { quantities: page.quantities, transportMaps: page.transportMaps });
+    const what = describeShown(core, s, {
+      quantities: page.quantities, transportMaps: page.transportMaps, resultViews: page.resultViews,
+    });
     if (!what) say('Nothing to export yet: open data first (and compute the FTLE for its maps).');
     return what && { s, what };
   }

@@ -1,6 +1,9 @@
 // The cleaning card: the core's normalized median test and gap filling (`sillage clean`)
 // on the loaded series. The cleaned copy becomes the working series; the raw one is kept so
 // that "Undo cleaning" brings it back. The report's figures and warning come from the core.
+// The card owns the recipe's `cleaning` step: the options of the cleaning in effect (absent
+// when the working series is the one as read); a recipe that says to clean cleans at once.
+import * as recipeState from '../recipe_state.js';
 import { showWarnings } from './transport_panel.js';
 
 const $ = (id) => document.getElementById(id);
@@ -27,6 +30,7 @@ export function createCleanPanel(ctx) {
 
   let raw = null; // the series as read, while a cleaned copy is the working one
   let expected = null; // the dataset this panel put in place last
+  let applied = null; // {threshold, passes, epsilon} of the cleaning in effect (recipe layout)
 
   function setStatus(state) { document.body.dataset.clean = state; }
 
@@ -56,11 +60,54 @@ export function createCleanPanel(ctx) {
       raw?.free();
       raw = null;
       expected = null;
+      applied = null;
       setStatus('');
       describeData(s.dataset);
     }
     if (keys.has('dataset') || keys.has('running')) sync();
   });
+
+  /**
+   * Cleans the series as read with the options in the inputs (synchronous). Throws the
+   * core's reason; the working series stays as it was then.
+   */
+  function cleanNow() {
+    const { dataset } = store.get();
+    // Cleaning always starts from the series as read, so options do not compound.
+    const source = raw ?? dataset;
+    const th = numberOrNull(threshold.value) ?? Number.NaN;
+    const eps = numberOrNull(epsilon.value);
+    const n = Number(passes.value.trim() || Number.NaN);
+    const out = source.clean(th, eps, n);
+    const previous = raw ? dataset : null;
+    raw = source;
+    expected = out.dataset;
+    applied = { threshold: th, passes: n, ...(eps === null ? {} : { epsilon: eps }) };
+    ctx.replaceDataset(out.dataset);
+    previous?.free();
+    report.textContent = `Cleaned: ${out.report.text}`;
+    showWarnings(warnings, out.report.warning
+      ? [{ level: 'caution', code: 'many_replaced', text: out.report.warning }] : []);
+    setStatus('done');
+    sync();
+    recipeState.changed();
+  }
+
+  function undoNow() {
+    const { dataset } = store.get();
+    const cleaned = dataset;
+    expected = raw;
+    const back = raw;
+    raw = null;
+    applied = null;
+    ctx.replaceDataset(back);
+    cleaned.free();
+    describeData(back);
+    report.textContent = `Back to the series as read. ${report.textContent}`;
+    setStatus('undone');
+    sync();
+    recipeState.changed();
+  }
 
   form.addEventListener('submit', (e) => {
     e.preventDefault();
@@ -71,41 +118,43 @@ export function createCleanPanel(ctx) {
     // Let the message paint before the (synchronous) core call.
     requestAnimationFrame(() => setTimeout(() => {
       try {
-        // Cleaning always starts from the series as read, so options do not compound.
-        const source = raw ?? dataset;
-        const th = numberOrNull(threshold.value);
-        const out = source.clean(th ?? Number.NaN, numberOrNull(epsilon.value), Number(passes.value.trim() || Number.NaN));
-        const previous = raw ? dataset : null;
-        raw = source;
-        expected = out.dataset;
-        ctx.replaceDataset(out.dataset);
-        previous?.free();
-        report.textContent = `Cleaned: ${out.report.text}`;
-        showWarnings(warnings, out.report.warning
-          ? [{ level: 'caution', code: 'many_replaced', text: out.report.warning }] : []);
+        cleanNow();
         messages.clear();
-        setStatus('done');
       } catch (error) {
         messages.error(ctx.describeFailure(error, 'clean the series'));
         setStatus('failed');
+        sync();
       }
-      sync();
     }, 0));
   });
 
   undo.addEventListener('click', () => {
-    const { dataset, running } = store.get();
+    const { running } = store.get();
     if (!raw || running) return;
-    const cleaned = dataset;
-    expected = raw;
-    const back = raw;
-    raw = null;
-    ctx.replaceDataset(back);
-    cleaned.free();
-    describeData(back);
-    report.textContent = `Back to the series as read. ${report.textContent}`;
-    setStatus('undone');
-    sync();
+    undoNow();
+  });
+
+  recipeState.register('cleaning', {
+    get: () => applied,
+    set(value) {
+      const { dataset, running } = store.get();
+      if (!dataset) return;
+      if (!value) {
+        threshold.value = String(defaults.threshold);
+        passes.value = String(defaults.passes);
+        epsilon.value = '';
+        if (raw && !running) undoNow();
+        return;
+      }
+      threshold.value = String(value.threshold ?? defaults.threshold);
+      passes.value = String(value.passes ?? defaults.passes);
+      epsilon.value = value.epsilon == null ? '' : String(value.epsilon);
+      const want = { threshold: Number(threshold.value), passes: Number(passes.value),
+        ...(value.epsilon == null ? {} : { epsilon: value.epsilon }) };
+      if (raw && JSON.stringify(want) === JSON.stringify(applied)) return; // cleaned like that already
+      if (running) throw new Error('a computation is running; clean again once it has finished');
+      cleanNow();
+    },
   });
 
   return {

@@ -3,6 +3,9 @@
 // amplitude against frequency; SPOD spectrum) under the map, and one picked mode: its shape
 // on the field map, its temporal coefficients, and "add to f / g", which appends its
 // selection term to the sensitivity card's inputs. Every number comes from the core.
+// The card owns the recipe's `modes` step (method, rank): present once a decomposition was
+// computed or a recipe named one; applying a recipe fills the inputs but computes nothing.
+import * as recipeState from '../recipe_state.js';
 import { drawChart } from './charts.js';
 import { showWarnings } from './transport_panel.js';
 
@@ -28,6 +31,15 @@ export function createModesPanel(ctx, sensitivity) {
   let overview = null;
   let picked = 0;
   let hit = { a: null, b: null };
+  let step = null; // the recipe's modes step: {method, rank?}, or null
+
+  /** The inputs as a recipe step (rank as typed: the core checks it). */
+  function readStep() {
+    const text = rank.value.trim();
+    const request = { method: method.value };
+    if (text !== '') request.rank = Number.isFinite(Number(text)) ? Number(text) : text;
+    return request;
+  }
 
   function setStatus(state) { document.body.dataset.modes = state; }
 
@@ -70,6 +82,10 @@ export function createModesPanel(ctx, sensitivity) {
     return {
       id: 'mode:shape',
       label: 'Picked mode shape',
+      unit: '1',
+      when: `${modes.term(k)}, ${c === 'magnitude' ? '|u|' : c}, unit norm`,
+      stem: `${overview.method}-mode-${k + 1}-${c}`,
+      exportBytes: (format) => modes.exportShape(k, c, format),
       range: modes.shapeRange(k, c),
       legend: `${modes.describe(k)}. Colours ${c === 'magnitude' ? 'from 0' : 'symmetric about 0'}; modes have unit norm, so the scale is arbitrary.`,
       view: (s) => {
@@ -126,9 +142,7 @@ export function createModesPanel(ctx, sensitivity) {
         + 'snapshots: clean first (Cleaning card).' }]);
       return;
     }
-    const text = rank.value.trim();
-    const request = { method: method.value };
-    if (text !== '') request.rank = Number(text);
+    const request = readStep();
     messages.info(`Computing the ${method.value.toUpperCase()}…`);
     setStatus('running');
     requestAnimationFrame(() => setTimeout(() => {
@@ -144,6 +158,8 @@ export function createModesPanel(ctx, sensitivity) {
         pick.disabled = false;
         view.hidden = false;
         messages.clear();
+        step = request;
+        recipeState.changed();
         choose(1);
         setStatus('done');
       } catch (error) {
@@ -172,6 +188,20 @@ export function createModesPanel(ctx, sensitivity) {
   }
   $('md-add-f').addEventListener('click', () => { if (modes) sensitivity.append('f', modes.term(picked)); });
   $('md-add-g').addEventListener('click', () => { if (modes) sensitivity.append('g', modes.term(picked)); });
+
+  recipeState.register('modes', {
+    get: () => step,
+    set(value) {
+      step = value ?? null;
+      method.value = value?.method ?? 'pod';
+      rank.value = value?.rank == null ? '' : String(value.rank);
+      if (value && !modes) {
+        showWarnings(warnings, [{ level: 'note', code: 'from_recipe', text: `The recipe asks for `
+          + `${method.value.toUpperCase()}${value.rank == null ? '' : ` of rank ${value.rank}`}: `
+          + 'press “Compute modes” to compute it.' }]);
+      }
+    },
+  });
 
   store.subscribe((s, keys) => {
     if (keys.has('dataset')) drop();

@@ -3,7 +3,14 @@
 // worker pool (job kind 'sensitivity'). The maps join the field menu with f's FTLE ridges;
 // warnings, g_ref, the agreement of ζ with Δσ and the normalisation of σ_MS are shown
 // beside the map. Every number comes from the core.
+// The card owns the recipe's `model`, `perturbation` (the selection texts) and
+// `sensitivity` (ε, g_ref) parts: present once a run was made or a recipe brought them;
+// applying a recipe fills the inputs and never starts a run (the user presses Compute).
+// Its maps can be saved one by one (the export card's "Save map data") or all at once in
+// the `sillage sensitivity --out` layout ("Save all sensitivity maps").
+import * as recipeState from '../recipe_state.js';
 import { JobCancelled, JobFailed } from '../compute/pool.js';
+import { offerDownload } from '../io/export.js';
 import { showWarnings } from './transport_panel.js';
 
 const $ = (id) => document.getElementById(id);
@@ -29,6 +36,7 @@ export function createSensitivityPanel(ctx) {
   let tag = 0;
   let result = null; // {id, grid, arrays, ranges, ridges, warnings, agreement, g_ref_text, …}
   let running = false;
+  let active = false; // the recipe carries this card's parts (a run was made, or a recipe set them)
 
   const progress = {
     box: $('sens-progress'),
@@ -80,6 +88,10 @@ export function createSensitivityPanel(ctx) {
       return {
         id: `sens:${m.id}`,
         label: m.label,
+        unit,
+        when: caption(r),
+        exportBytes: (format) => dataset.exportSensitivity(m.id, JSON.stringify(r.settings), values,
+          r.arrays.flag, format),
         range: r.ranges[m.id],
         ridges: r.ridges,
         legend,
@@ -211,6 +223,7 @@ export function createSensitivityPanel(ctx) {
       const r = {
         id: (result?.id ?? 0) + 1,
         settings: job.transport,
+        job,
         f: texts.f,
         g: texts.g,
         epsilon: job.epsilon ?? null,
@@ -226,6 +239,8 @@ export function createSensitivityPanel(ctx) {
         workers: pool.size,
       };
       result = r;
+      active = true;
+      recipeState.changed();
       resultViews.set('sensitivity', 'Sensitivity result', entries(r));
       report(r);
       ctx.setView({ quantity: 'sens:zeta', results: resultViews.version });
@@ -254,6 +269,55 @@ export function createSensitivityPanel(ctx) {
     if (!button.disabled) compute();
   });
   $('sens-cancel').addEventListener('click', () => pool.cancel());
+
+  $('export-sensitivity').addEventListener('click', () => {
+    const status = $('share-status');
+    const { dataset } = store.get();
+    if (!result || !dataset) {
+      status.textContent = 'Nothing to save yet: compute the sensitivity first (Mode sensitivity card).';
+      return;
+    }
+    try {
+      offerDownload(dataset.sensitivityNpz(JSON.stringify(result.job), result.g_ref, result.arrays),
+        'sillage-sensitivity.npz');
+      status.textContent = 'All sensitivity maps saved as sillage-sensitivity.npz.';
+    } catch (error) {
+      messages.error(`Could not save the sensitivity maps: ${error.message}`);
+    }
+  });
+
+  // --- the recipe's parts ------------------------------------------------------------------
+
+  /** A number input as the recipe wants it: absent when empty, the text when not a number. */
+  const recipeNumber = (input) => {
+    const v = numberOrNull(input.value);
+    if (v === null) return undefined;
+    return Number.isFinite(v) ? v : input.value.trim();
+  };
+  recipeState.register('model', {
+    get: () => (active ? fText.value.trim() || null : null),
+    set(value) { fText.value = value ?? fText.defaultValue; },
+  });
+  recipeState.register('perturbation', {
+    get: () => (active ? gText.value.trim() || null : null),
+    set(value) { gText.value = value ?? gText.defaultValue; },
+  });
+  recipeState.register('sensitivity', {
+    get() {
+      if (!active) return null;
+      const step = {};
+      const e = recipeNumber(eps);
+      const g = recipeNumber(gref);
+      if (e !== undefined) step.epsilon = e;
+      if (g !== undefined) step.g_ref = g;
+      return step;
+    },
+    set(value) {
+      active = !!value;
+      eps.value = value?.epsilon == null ? '' : String(value.epsilon);
+      gref.value = value?.g_ref == null ? '' : String(value.g_ref);
+    },
+  });
 
   store.subscribe((s, keys) => {
     if (keys.has('dataset')) {

@@ -67,7 +67,8 @@ pub struct Recipe {
     /// The perturbation g as a selection; needed by the sensitivity step.
     #[serde(default)]
     pub perturbation: Option<String>,
-    /// FTLE of f (and the trajectories of the sensitivity step).
+    /// FTLE of the (cleaned) data, and the trajectory settings of the sensitivity step
+    /// (whose result holds the FTLE of the model flow f).
     #[serde(default)]
     pub transport: Option<TransportSettings>,
     #[serde(default)]

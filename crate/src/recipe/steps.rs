@@ -119,9 +119,9 @@ pub enum ExportWhat {
     Perturbation,
     /// The modes step's arrays (.npz).
     Modes,
-    /// The FTLE maps of f (.npz or .vti).
+    /// The FTLE maps of the (cleaned) data (.npz or .vti).
     Ftle,
-    /// The FTLE ridges of f (.json or .csv).
+    /// The FTLE ridges of the (cleaned) data (.json or .csv).
     Ridges,
     /// The sensitivity maps (.npz or .vti).
     Sensitivity,

@@ -5,6 +5,7 @@
 //! user sees is decided in one place, in the core; the page only places the pixels and
 //! strings it receives.
 
+mod accessibility;
 pub mod arrows;
 pub mod colormap;
 mod error;

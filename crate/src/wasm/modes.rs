@@ -4,7 +4,8 @@
 
 use super::js_error;
 use super::Dataset;
-use crate::field::Units;
+use crate::field::{Grid, Units};
+use crate::io::{MapFormat, ScalarMap};
 use crate::modes::overview::{decompose, Component, Decomposition, ModesRequest};
 use crate::render::sensitivity::{centred_range, magnitude_range};
 use crate::render::{mask_rgba, paint_rgba, ColorRange, Colormap, ColormapKind};
@@ -18,6 +19,7 @@ pub struct Modes {
     times: Vec<f64>,
     nx: usize,
     ny: usize,
+    grid: Grid,
     valid: Vec<bool>,
 }
 
@@ -40,6 +42,7 @@ impl Dataset {
             times: s.times().to_vec(),
             nx: s.nx(),
             ny: s.ny(),
+            grid: *s.grid(),
             valid: s.mask().iter().map(|&m| !m).collect(),
         })
     }
@@ -109,6 +112,33 @@ impl Modes {
             range,
             mask_rgba(),
         ))
+    }
+
+    /// Mode `k`'s `component` as a file in `format` (`npy`, `npz`, `csv`, `vti`) on the
+    /// data grid, masked cells NaN. The array is named `<method>_mode_<k+1>_<component>`
+    /// and its unit is `1`: modes have unit norm, so the scale is arbitrary.
+    #[wasm_bindgen(js_name = exportShape)]
+    pub fn export_shape(
+        &self,
+        k: usize,
+        which: &str,
+        format_name: &str,
+    ) -> Result<Vec<u8>, JsError> {
+        let fmt: MapFormat = format_name.parse().map_err(|e: String| JsError::new(&e))?;
+        let c = component(which)?;
+        let values = self.inner.shape(k, c).map_err(js_error)?;
+        let method = format!("{:?}", self.inner.method()).to_lowercase();
+        let name = format!("{method}_mode_{}_{}", k + 1, which.trim().to_lowercase());
+        let out = ScalarMap {
+            grid: &self.grid,
+            name: &name,
+            unit: "1",
+            units: self.units,
+            time: None,
+            values: &values,
+            valid: &self.valid,
+        };
+        Ok(out.write(fmt))
     }
 
     /// The temporal coefficients of mode `k` as a chart (JSON), or `undefined` (SPOD).

@@ -10,13 +10,15 @@ use super::js_error;
 use super::Dataset;
 use crate::advice::{result_warnings, settings_warnings, IntegratorChoice, Level, Warning};
 use crate::advice::{AdviceError, TransportSettings};
-use crate::field::Series;
-use crate::io::write_npz;
+use crate::field::{Grid, Series};
+use crate::io::{write_npz, MapFormat, ScalarMap};
+use crate::lagrangian::FtleFlag;
 use crate::modes::{SelectOptions, Selection};
 use crate::render::format::format_sig;
 use crate::render::{mask_rgba, ColorRange, Colormap, SensitivityMap};
 use crate::sensitivity::{
-    prepare, zeta_agreement, SensitivityError, SensitivitySpec, NORMALISATION,
+    prepare, sensitivity_npz, zeta_agreement, SensitivityError, SensitivityResult, SensitivityRows,
+    SensitivitySpec, SensitivityStats, NORMALISATION,
 };
 use js_sys::{Float32Array, Object, Reflect, Uint8Array};
 use serde::{Deserialize, Serialize};
@@ -74,6 +76,136 @@ impl Dataset {
         let sel = Selection::parse(text).map_err(js_error)?;
         let series = sel.materialize(self.series(), &SelectOptions::default()).map_err(js_error)?;
         Ok(write_npz(&series))
+    }
+
+    /// Map `id` of a sensitivity run (`ms`, `ms_g`, `strain_bound`, `xi`, `xi_x`, `xi_y`,
+    /// `ftle`, `sigma_ms`, `zeta`, `delta_ftle`) with transport `settings` (JSON), its
+    /// assembled `values` and status `flags`, as a file in `format` (`npy`, `npz`, `csv`,
+    /// `vti`): the run's tracer grid, the map's unit, t₀; nodes without a value are NaN.
+    #[wasm_bindgen(js_name = exportSensitivity)]
+    pub fn export_sensitivity(
+        &self,
+        id: &str,
+        settings_json: &str,
+        values: &[f32],
+        flags: &[u8],
+        format_name: &str,
+    ) -> Result<Vec<u8>, JsError> {
+        let fmt: MapFormat = format_name.parse().map_err(|e: String| JsError::new(&e))?;
+        let m = map(id)?;
+        let settings = TransportSettings::from_json(settings_json).map_err(js_error)?;
+        let tracers = settings.tracer_grid(self.series()).map_err(js_error)?;
+        let grid = Grid { x: tracers.x, y: tracers.y };
+        if values.len() != grid.len() || flags.len() != grid.len() {
+            return Err(JsError::new(&format!(
+                "the {} map has {} values and {} flags for a {} × {} tracer grid",
+                m.label(),
+                values.len(),
+                flags.len(),
+                grid.nx(),
+                grid.ny()
+            )));
+        }
+        let units = self.series().units();
+        let unit = m.unit(units);
+        let valid = m.valid(flags);
+        let out = ScalarMap {
+            grid: &grid,
+            name: m.id(),
+            unit: &unit,
+            units,
+            time: Some(settings.t0),
+            values,
+            valid: &valid,
+        };
+        Ok(out.write(fmt))
+    }
+
+    /// Every map of a sensitivity run as one `.npz`, the layout `sillage sensitivity --out`
+    /// writes ([`sensitivity_npz`]): `settings` is the run's JSON `{transport, epsilon?,
+    /// g_ref?}`, `g_ref` the reference speed it used (m/s), `arrays` the assembled maps as
+    /// the workers return them (`ms`, `ms_g`, `strain_bound`, `xi`, `xi_x`, `xi_y`, `ftle`,
+    /// `sigma_ms`, `zeta`, `tau`, `det_deviation`: Float32Array; `flag`: Uint8Array;
+    /// `delta_ftle` when ε was given).
+    #[wasm_bindgen(js_name = sensitivityNpz)]
+    pub fn sensitivity_npz(
+        &self,
+        settings_json: &str,
+        g_ref: f64,
+        arrays: &Object,
+    ) -> Result<Vec<u8>, JsError> {
+        let job = job(settings_json).map_err(|e| JsError::new(&e))?;
+        let run = job.transport.resolve(self.series()).map_err(js_error)?;
+        let n = run.grid.nx() * run.grid.ny();
+        let get = |name: &str| -> Result<Option<JsValue>, JsError> {
+            let v = Reflect::get(arrays, &JsValue::from_str(name))
+                .map_err(|_| JsError::new(&format!("cannot read map '{name}'")))?;
+            Ok(if v.is_undefined() || v.is_null() { None } else { Some(v) })
+        };
+        let floats = |name: &str| -> Result<Option<Vec<f32>>, JsError> {
+            let Some(v) = get(name)? else { return Ok(None) };
+            let a: Float32Array = v
+                .dyn_into()
+                .map_err(|_| JsError::new(&format!("map '{name}' is not a Float32Array")))?;
+            if a.length() as usize != n {
+                return Err(JsError::new(&format!(
+                    "map '{name}' has {} values for a {} × {} tracer grid",
+                    a.length(),
+                    run.grid.nx(),
+                    run.grid.ny()
+                )));
+            }
+            Ok(Some(a.to_vec()))
+        };
+        let need = |name: &str| -> Result<Vec<f32>, JsError> {
+            floats(name)?.ok_or_else(|| JsError::new(&format!("the run has no map '{name}'")))
+        };
+        let flag_bytes: Uint8Array = get("flag")?
+            .ok_or_else(|| JsError::new("the run has no status map 'flag'"))?
+            .dyn_into()
+            .map_err(|_| JsError::new("the status map 'flag' is not a Uint8Array"))?;
+        if flag_bytes.length() as usize != n {
+            return Err(JsError::new("the status map 'flag' does not fit the tracer grid"));
+        }
+        let flag = flag_bytes
+            .to_vec()
+            .into_iter()
+            .map(|f| match f {
+                0 => Ok(FtleFlag::Full),
+                1 => Ok(FtleFlag::Exited),
+                2 => Ok(FtleFlag::Short),
+                3 => Ok(FtleFlag::Masked),
+                4 => Ok(FtleFlag::NoValue),
+                other => Err(JsError::new(&format!("unknown status {other} in 'flag'"))),
+            })
+            .collect::<Result<Vec<_>, _>>()?;
+        let maps = SensitivityRows {
+            grid: run.grid,
+            j0: 0,
+            j1: run.grid.ny(),
+            horizon: run.options.advect.horizon,
+            g_ref,
+            ms: need("ms")?,
+            ms_g: need("ms_g")?,
+            strain_bound: need("strain_bound")?,
+            xi: need("xi")?,
+            xi_x: need("xi_x")?,
+            xi_y: need("xi_y")?,
+            ftle: need("ftle")?,
+            sigma_ms: need("sigma_ms")?,
+            zeta: need("zeta")?,
+            tau: need("tau")?,
+            det_deviation: need("det_deviation")?,
+            flag,
+            stats: SensitivityStats::default(),
+        };
+        let result = SensitivityResult {
+            maps,
+            delta_ftle: floats("delta_ftle")?,
+            epsilon: job.epsilon,
+            ridges: Vec::new(),
+        };
+        Ok(sensitivity_npz(&result, run.options.advect.t0, &self.series().units()))
     }
 
     /// Unit label of sensitivity map `id` in this series' units.

@@ -118,3 +118,8 @@ export function npzArrays(path, names) {
   }
   return out;
 }
+
+/** Names of the arrays in the .npz file at `path` (without '.npy'), in archive order. */
+export function npzNames(path) {
+  return Array.from(entries(readFileSync(path)).keys(), (n) => n.replace(/\.npy$/, ''));
+}

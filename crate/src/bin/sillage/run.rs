@@ -70,12 +70,14 @@ pub fn run(args: Args) -> Result<(), String> {
     let ftle_result = match &recipe.transport {
         None => None,
         Some(t) => {
-            let run = t.resolve(&f).map_err(|e| format!("recipe: transport: {e}"))?;
-            let field = GriddedField::new(&f, run.space, run.time);
+            // The FTLE of the (cleaned) data, as the page's FTLE card shows it; the FTLE of
+            // the model flow f is part of the sensitivity result.
+            let run = t.resolve(&data).map_err(|e| format!("recipe: transport: {e}"))?;
+            let field = GriddedField::new(&data, run.space, run.time);
             let start = Instant::now();
             let r = ftle_field_parallel(&field, &run.grid, &run.options, 2)
                 .map_err(|e| e.to_string())?;
-            ftle::summarise(&r, start.elapsed().as_secs_f64(), &f.units());
+            ftle::summarise(&r, start.elapsed().as_secs_f64(), &data.units());
             let mut ridges = extract_ridges(&r, &RidgeOptions::default());
             ridges.sort_by(|a, b| b.length().total_cmp(&a.length()));
             Some((r, ridges, run.options.advect.t0))
@@ -142,7 +144,7 @@ impl Outcome<'_> {
             }
             ExportWhat::Ridges => {
                 let (r, ridges, t0) = self.ftle.as_ref().ok_or_else(|| missing("FTLE"))?;
-                let units = self.f.units();
+                let units = self.data.units();
                 if ext.as_deref() == Some("csv") {
                     ftle::ridges_csv(ridges, &units).into_bytes()
                 } else {
