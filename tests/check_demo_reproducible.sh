@@ -11,7 +11,7 @@ trap 'rm -rf "$tmp"' EXIT
 
 cargo build --release -p fin-wake-generator
 start=$SECONDS
-./target/release/fin-wake-generator "$tmp"
+"${CARGO_TARGET_DIR:-./target}/release/fin-wake-generator" "$tmp"
 echo "generator run time: $((SECONDS - start)) s"
 
 status=0

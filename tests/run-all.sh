@@ -51,7 +51,7 @@ wasm_build() {
 
 python_tests() {
   cargo build -p sillage --bin sillage &&
-    SILLAGE_BIN="$root/target/debug/sillage" tests/.venv/bin/python -m pytest -q tests/python
+    SILLAGE_BIN="${CARGO_TARGET_DIR:-$root/target}/debug/sillage" tests/.venv/bin/python -m pytest -q tests/python
 }
 
 demo_reproducible() {
@@ -61,7 +61,7 @@ demo_reproducible() {
 browser_tests() {
   # ftle.test.mjs compares the page's FTLE with the CLI's (the same binary as pytest uses).
   cargo build -p sillage --bin sillage &&
-    (cd tests/browser && SILLAGE_BIN="$root/target/debug/sillage" node --test)
+    (cd tests/browser && SILLAGE_BIN="${CARGO_TARGET_DIR:-$root/target}/debug/sillage" node --test)
 }
 
 stage "install tools" install_tools

@@ -79,7 +79,7 @@ def probe():
             cwd=ROOT,
             check=True,
         )
-        exe = ROOT / "target" / "release" / "examples" / "ftle_probe"
+        exe = pathlib.Path(os.environ.get("CARGO_TARGET_DIR", ROOT / "target")) / "release" / "examples" / "ftle_probe"
 
     def run(request):
         res = subprocess.run(

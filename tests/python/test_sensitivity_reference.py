@@ -17,6 +17,7 @@ sillage's values come from the example binary crate/examples/sensitivity_probe.r
 
 import json
 import os
+import pathlib
 import subprocess
 
 import numpy as np
@@ -88,7 +89,7 @@ def probe():
     if exe is None:
         subprocess.run(["cargo", "build", "-q", "-p", "sillage", "--release", "--example",
                         "sensitivity_probe"], cwd=ROOT, check=True)
-        exe = ROOT / "target" / "release" / "examples" / "sensitivity_probe"
+        exe = pathlib.Path(os.environ.get("CARGO_TARGET_DIR", ROOT / "target")) / "release" / "examples" / "sensitivity_probe"
 
     def run(horizon):
         req = {"points": points().tolist(), "t0": T0, "horizon": horizon, "step": STEP,
