@@ -27,13 +27,17 @@ pub struct InputArgs {
 
 impl InputArgs {
     pub fn read(&self) -> Result<Series, String> {
-        let opts = ReadOptions {
+        read_paths(&self.data, &self.read_options()).map_err(|e| e.to_string())
+    }
+
+    /// The reading options, for other files read alongside DATA (e.g. `--model FILE`).
+    pub fn read_options(&self) -> ReadOptions {
+        ReadOptions {
             length_unit: self.length_unit,
             time_unit: self.time_unit,
             dt: self.dt,
             t_start: self.t_start,
-        };
-        read_paths(&self.data, &opts).map_err(|e| e.to_string())
+        }
     }
 
     /// The inputs as one display string.

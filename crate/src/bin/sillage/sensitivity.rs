@@ -5,7 +5,7 @@
 use crate::input::InputArgs;
 use crate::lagrangian_args::LagrangianArgs;
 use sillage::field::Series;
-use sillage::io::{read_paths, ReadOptions};
+use sillage::io::read_paths;
 use sillage::modes::{SelectOptions, Selection};
 use sillage::sensitivity::parallel::run_parallel;
 use sillage::sensitivity::{
@@ -50,13 +50,7 @@ pub struct Args {
 pub fn field_from(text: &str, data: &Series, input: &InputArgs) -> Result<Series, String> {
     let path = Path::new(text);
     if path.exists() {
-        let opts = ReadOptions {
-            length_unit: input.length_unit,
-            time_unit: input.time_unit,
-            dt: input.dt,
-            t_start: input.t_start,
-        };
-        return read_paths(&[path.to_path_buf()], &opts)
+        return read_paths(&[path.to_path_buf()], &input.read_options())
             .map_err(|e| format!("cannot read '{}': {e}", path.display()));
     }
     let sel = Selection::parse(text).map_err(|e| e.to_string())?;
