@@ -84,7 +84,8 @@ if not skip:
         meta = json.loads((est.parent / "benchmark.json").read_text())
         steps = meta["throughput"]["Elements"]
         secs = json.loads(est.read_text())["median"]["point_estimate"] * 1e-9
-        label = "flow map" if group == "flow_map" else "variational FTLE"
+        label = {"flow_map": "flow map", "flow_map_per_tracer": "flow map, per-tracer path",
+                 "ftle_variational": "variational FTLE"}.get(group, group)
         threads = "1" if bench == "serial" else bench.split("_")[1]
         crit[(group, bench)] = steps / secs
         rows.append((f"sillage criterion median, {label}", threads, steps, secs, steps / secs))
