@@ -14,6 +14,11 @@
 //! reports it as "elements" per second. A smaller grid (64×32) is run too, to show the rate
 //! does not depend on the grid size once the data fit in cache.
 //!
+//! Gridded bilinear × linear data take the engine's lockstep path (all tracers step by step
+//! over shared time slices, `lagrangian/lockstep.rs`); the group `flow_map_per_tracer`
+//! times the same flow map through a wrapper that hides the gridded field from the engine,
+//! i.e. the per-tracer path every other field takes, to show what the lockstep path buys.
+//!
 //! Run: `cargo bench -p sillage --bench transport` (SILLAGE_BENCH_DATA=path overrides the
 //! data file). tests/bench/run-transport.sh runs this, the numpy script and the wasm timing
 //! and prints one table; results are recorded in BENCHMARKS.md.
@@ -24,7 +29,8 @@ use sillage::field::Series;
 use sillage::io::{read_paths, ReadOptions};
 use sillage::lagrangian::{
     flow_map_rows, ftle_rows, AdvectOptions, BoundaryPolicy, FlowMapRows, FtleOptions, FtleRows,
-    GradientRoute, GriddedField, Integrator, SpaceInterp, TimeInterp, TracerGrid,
+    GradientRoute, GriddedField, Integrator, Mat2, Rect, SpaceInterp, TimeInterp, TracerGrid, Vec2,
+    VelocityField,
 };
 use std::hint::black_box;
 use std::path::PathBuf;
@@ -64,6 +70,25 @@ fn row_ranges(grid: &TracerGrid) -> Vec<(usize, usize)> {
         .step_by(ROWS_PER_TASK)
         .map(|j0| (j0, (j0 + ROWS_PER_TASK).min(grid.ny())))
         .collect()
+}
+
+/// The same samples as the wrapped field, without telling the engine it is gridded: the
+/// engine then takes its per-tracer path (the comparison for the lockstep path).
+struct PerTracer<'f, 'a>(&'f GriddedField<'a>);
+
+impl VelocityField for PerTracer<'_, '_> {
+    fn velocity(&self, p: Vec2, t: f64) -> Option<Vec2> {
+        self.0.velocity(p, t)
+    }
+    fn velocity_gradient(&self, p: Vec2, t: f64) -> Option<(Vec2, Mat2)> {
+        self.0.velocity_gradient(p, t)
+    }
+    fn window(&self) -> Option<Rect> {
+        self.0.window()
+    }
+    fn time_range(&self) -> Option<(f64, f64)> {
+        self.0.time_range()
+    }
 }
 
 fn flow_map_serial(field: &GriddedField, grid: &TracerGrid, o: &AdvectOptions) -> FlowMapRows {
@@ -116,6 +141,20 @@ fn transport(c: &mut Criterion) {
         });
         g.bench_function(BenchmarkId::new(format!("rayon_{threads}_threads"), &size), |b| {
             b.iter(|| black_box(flow_map_parallel(&field, &grid, &o)))
+        });
+        g.finish();
+        let per_tracer = PerTracer(&field);
+        let same = flow_map_rows(&per_tracer, &grid, &o, 0, grid.ny()).expect("flow map");
+        assert_eq!(same, flow_map_serial(&field, &grid, &o), "the two paths must agree");
+        let mut g = c.benchmark_group("flow_map_per_tracer");
+        g.sample_size(10)
+            .warm_up_time(Duration::from_secs(1))
+            .measurement_time(Duration::from_secs(8))
+            .throughput(Throughput::Elements(steps));
+        g.bench_function(BenchmarkId::new("serial", &size), |b| {
+            b.iter(|| {
+                black_box(flow_map_rows(&per_tracer, &grid, &o, 0, grid.ny()).unwrap().rhs_calls)
+            })
         });
         g.finish();
 

@@ -3,6 +3,8 @@
 
 use super::dormand_prince::{integrate_dopri, DopriOptions};
 use super::error::LagrangianError;
+use super::gridded::GriddedField;
+use super::lockstep;
 use super::outcome::{Outcome, Stop};
 use super::rk4::{integrate_rk4, integrate_rk4_lanes};
 use super::seeding::TracerGrid;
@@ -149,6 +151,12 @@ pub struct FlowMapRows {
     pub rhs_calls: u64,
 }
 
+/// The gridded field behind `field` when the lockstep path reproduces its samples
+/// (bilinear in space, linear in time).
+pub(crate) fn lockstep_field<G: VelocityField>(field: &G) -> Option<&GriddedField<'_>> {
+    field.as_gridded().filter(|g| g.sliceable())
+}
+
 /// Checks `j0..j1` against the grid.
 pub(crate) fn check_rows(grid: &TracerGrid, j0: usize, j1: usize) -> Result<(), LagrangianError> {
     if j0 >= j1 || j1 > grid.ny() {
@@ -217,9 +225,19 @@ fn flow_rows_with<F: VelocityField, G: VelocityField>(
         r.rhs_calls += out.rhs_calls as u64;
     };
     match o.integrator {
-        Integrator::Rk4 { max_step } => {
-            integrate_rk4_lanes(&sys, seeds, o.t0, o.horizon, max_step, store)
-        }
+        Integrator::Rk4 { max_step } => match lockstep_field(field) {
+            // Gridded bilinear × linear data: all tracers step by step over shared time
+            // slices, with the same results (lockstep.rs).
+            Some(g) => {
+                let seeds: Vec<_> = seeds.collect();
+                if seeds.len() >= lockstep::MIN_TRACERS {
+                    lockstep::integrate_positions(g, seeds, o.t0, o.horizon, max_step, store)
+                } else {
+                    integrate_rk4_lanes(&sys, seeds, o.t0, o.horizon, max_step, store)
+                }
+            }
+            None => integrate_rk4_lanes(&sys, seeds, o.t0, o.horizon, max_step, store),
+        },
         Integrator::DormandPrince(_) => {
             for (c, p) in seeds {
                 store(c, integrate(&sys, p, o));

@@ -19,9 +19,13 @@
 //! need neighbours that reached the same time, so they give no value next to an exit.
 
 use super::engine::{
-    check_rows, flow_map_rows, integrate, AdvectOptions, BoundaryPolicy, FlowMapRows, NodeStatus,
+    check_rows, flow_map_rows, integrate, lockstep_field, AdvectOptions, BoundaryPolicy,
+    FlowMapRows, Integrator, NodeStatus,
 };
 use super::error::LagrangianError;
+use super::gridded::GriddedField;
+use super::lockstep;
+use super::outcome::Outcome;
 use super::seeding::TracerGrid;
 use super::system::{satellites_start, Satellites, Tangent};
 use super::velocity::{Extended, Mat2, VelocityField};
@@ -285,6 +289,13 @@ fn per_node_rows<F: VelocityField, G: VelocityField>(
     j1: usize,
 ) -> FtleRows {
     let a = &o.advect;
+    if let (GradientRoute::Variational, Integrator::Rk4 { max_step }, Some(g)) =
+        (o.route, a.integrator, lockstep_field(field))
+    {
+        if let Some(r) = variational_lockstep(seed_field, g, grid, a, max_step, j0, j1) {
+            return r;
+        }
+    }
     let mut r = FtleRows::with_capacity(grid, j0, j1, a.horizon);
     for j in j0..j1 {
         for i in 0..grid.nx() {
@@ -299,6 +310,46 @@ fn per_node_rows<F: VelocityField, G: VelocityField>(
         }
     }
     r
+}
+
+/// Route (c) on gridded bilinear × linear data: all nodes of the rows advance together over
+/// shared time slices (`lockstep.rs`), with the results of the per-node loop of
+/// [`per_node_rows`]. `None` (nothing done) when the rows hold too few seeds for it to pay.
+fn variational_lockstep<F: VelocityField>(
+    seed_field: &F,
+    field: &GriddedField,
+    grid: &TracerGrid,
+    a: &AdvectOptions,
+    max_step: f64,
+    j0: usize,
+    j1: usize,
+) -> Option<FtleRows> {
+    let nx = grid.nx();
+    let n = (j1 - j0) * nx;
+    let seeds: Vec<(usize, [f64; 6])> = (0..n)
+        .filter_map(|c| {
+            let p = grid.node(c % nx, j0 + c / nx);
+            seed_field.velocity(p, a.t0).is_some().then_some((c, [p[0], p[1], 1.0, 0.0, 0.0, 1.0]))
+        })
+        .collect();
+    if seeds.len() < lockstep::MIN_TRACERS {
+        return None;
+    }
+    let mut outs: Vec<Option<Outcome<6>>> = vec![None; n];
+    lockstep::integrate_tangent(field, seeds, a.t0, a.horizon, max_step, |c, out| {
+        outs[c] = Some(out)
+    });
+    let mut r = FtleRows::with_capacity(grid, j0, j1, a.horizon);
+    for out in outs {
+        let Some(out) = out else {
+            r.push(None, 0.0, NodeStatus::Masked);
+            continue;
+        };
+        let y = out.y;
+        r.stats.rhs_calls += out.rhs_calls as u64;
+        r.push(Some([[y[2], y[3]], [y[4], y[5]]]), (out.t - a.t0).abs(), out.stop.into());
+    }
+    Some(r)
 }
 
 /// FTLE at arbitrary start points (probes, reference comparisons), by route (b) or (c).

@@ -45,12 +45,12 @@ pub enum TimeInterp {
 }
 
 /// Tolerance, in cells, for points a rounding error outside the first or last node.
-const EDGE_TOL: f64 = 1e-9;
+pub(super) const EDGE_TOL: f64 = 1e-9;
 
 /// `v` limited to [0, max] for a `v` known not to be NaN: the same value as `f64::clamp`,
 /// without the NaN handling (compare and select only).
 #[inline(always)]
-fn clamp_checked(v: f64, max: f64) -> f64 {
+pub(super) fn clamp_checked(v: f64, max: f64) -> f64 {
     if v < 0.0 {
         0.0
     } else if v > max {
@@ -117,6 +117,40 @@ struct LinearPath {
     t_last: f64,
     inv_dt: f64,
     last_k: i32,
+}
+
+impl LinearPath {
+    /// Snapshot interval k and fraction s of a time inside [t_first, t_last], from the
+    /// uniform spacing: no search and no division.
+    #[inline(always)]
+    fn interval(&self, t: f64) -> (usize, f64) {
+        let tt = (t - self.t_first) * self.inv_dt;
+        let k = (tt as i32).min(self.last_k);
+        (k as usize, tt - k as f64)
+    }
+}
+
+/// The snapshots a bilinear × linear sample at one time combines: `len` (1 for a steady
+/// series, else 2) snapshots from `first`, with weights `w`. What [`GriddedField::bracket`]
+/// hands to the lockstep path, which blends them once for all tracers.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) struct Bracket {
+    pub first: usize,
+    pub len: usize,
+    pub w: [f64; 2],
+}
+
+/// Borrowed view of what the lockstep path needs to blend snapshots and locate points
+/// exactly as the field's own samples do.
+pub(super) struct SliceSource<'s> {
+    pub u: &'s [f32],
+    pub v: &'s [f32],
+    pub nx: usize,
+    pub ny: usize,
+    pub x0: f64,
+    pub y0: f64,
+    pub inv_dx: f64,
+    pub inv_dy: f64,
 }
 
 impl<'a> GriddedField<'a> {
@@ -205,6 +239,53 @@ impl<'a> GriddedField<'a> {
     /// The series this field reads.
     pub fn series(&self) -> &'a Series {
         self.series
+    }
+
+    /// Whether every sample is bilinear in space and linear in time (or the series is
+    /// steady): then the field at one time is one blended snapshot, which is what the
+    /// lockstep path (`lockstep.rs`) precomputes once for all tracers.
+    pub(super) fn sliceable(&self) -> bool {
+        self.space == SpaceInterp::Bilinear
+            && (self.time == TimeInterp::Linear || self.series.times().len() == 1)
+    }
+
+    /// The snapshots and weights a sample at `t` combines, computed exactly as
+    /// [`VelocityField::velocity`] computes them (same interval, same fraction), so that a
+    /// blended slice reproduces its samples bit for bit; `None` outside the snapshot times.
+    /// Only meaningful when [`Self::sliceable`].
+    pub(super) fn bracket(&self, t: f64) -> Option<Bracket> {
+        if let Some(lp) = &self.linear {
+            if !((t >= lp.t_first) & (t <= lp.t_last)) {
+                return None;
+            }
+            let (k, s) = lp.interval(t);
+            return Some(Bracket { first: k, len: 2, w: [1.0 - s, s] });
+        }
+        let st = self.stencil(t)?;
+        debug_assert!(st.len <= 2, "bracket of a stencil longer than linear");
+        Some(Bracket { first: st.first, len: st.len, w: [st.w[0], st.w[1]] })
+    }
+
+    /// Whether bilinear cell `cell` (index `j·(nx−1) + i`) has data at a time with bracket
+    /// `b`: its four corners valid in every snapshot combined, as the samples require.
+    #[inline]
+    pub(super) fn cell_usable(&self, b: &Bracket, cell: usize) -> bool {
+        let st = TimeStencil { first: b.first, len: b.len, w: [b.w[0], b.w[1], 0.0, 0.0] };
+        self.all_ok(&self.cell_ok, &st, cell)
+    }
+
+    /// Data and geometry for the lockstep path.
+    pub(super) fn slice_source(&self) -> SliceSource<'a> {
+        SliceSource {
+            u: self.series.u(),
+            v: self.series.v(),
+            nx: self.nx,
+            ny: self.ny,
+            x0: self.x0,
+            y0: self.y0,
+            inv_dx: self.inv_dx,
+            inv_dy: self.inv_dy,
+        }
     }
 
     /// Interpolation actually used in space (bilinear if cubic was asked on a grid with
@@ -391,12 +472,10 @@ impl<'a> GriddedField<'a> {
         }
         // Snapshot interval and fraction from the uniform spacing (the times are uniform
         // to round-off here): no search and no division.
-        let tt = (t - lp.t_first) * lp.inv_dt;
-        let k = (tt as i32).min(lp.last_k);
-        let s = tt - k as f64;
+        let (k, s) = lp.interval(t);
         let (w0, w1) = (1.0 - s, s);
         let plane = nx * self.ny;
-        let o = k as usize * plane + j * nx + i;
+        let o = k * plane + j * nx + i;
         let (u, v) = (self.series.u(), self.series.v());
         let pair = |f: &[f32], a: usize| -> [f64; 2] {
             let q: &[f32; 2] = f[a..a + 2].try_into().expect("two values");
@@ -474,6 +553,9 @@ impl VelocityField for GriddedField<'_> {
     fn time_range(&self) -> Option<(f64, f64)> {
         let t = self.series.times();
         (t.len() > 1).then(|| (t[0], t[t.len() - 1]))
+    }
+    fn as_gridded(&self) -> Option<&GriddedField<'_>> {
+        Some(self)
     }
 }
 

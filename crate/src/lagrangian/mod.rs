@@ -5,7 +5,9 @@
 //!   [`crate::field::Series`], the [`analytic`] flows drive the same code in tests.
 //! * [`integrate_rk4`] (fixed step) and [`integrate_dopri`] (Dormand–Prince 5(4), error
 //!   control) advance any [`System`]; [`engine`] seeds a [`TracerGrid`], applies the
-//!   [`BoundaryPolicy`] and returns per-tracer positions, exit times and status.
+//!   [`BoundaryPolicy`] and returns per-tracer positions, exit times and status. On gridded
+//!   bilinear × linear data, fixed-step RK4 advances all tracers together over time slices
+//!   blended once per stage time (`lockstep.rs`), with the per-tracer path's results.
 //! * [`ftle`] computes σ by the three routes to ∇F of METHODS.md §1, with the exit-time map
 //!   and the det ∇F = 1 quality map; [`ridges`] extracts ridge polylines; [`sequence`]
 //!   computes FTLE for many start times, directly or by flow-map composition.
@@ -25,6 +27,7 @@ mod error;
 pub mod ftle;
 mod gridded;
 mod kernels;
+mod lockstep;
 mod outcome;
 #[cfg(feature = "cli")]
 pub mod parallel;

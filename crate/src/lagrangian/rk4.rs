@@ -60,10 +60,27 @@ pub fn integrate_rk4<const N: usize, Sys: System<N>>(
 ) -> Outcome<N> {
     let n = step_count(horizon, max_step);
     let h = horizon / n as f64;
-    let mut y = y0;
-    let mut t = t0;
-    let mut calls = 0u32;
-    for s in 0..n {
+    resume_rk4(sys, y0, t0, horizon, n, h, 0, 0)
+}
+
+/// Continues an [`integrate_rk4`] run of `n` steps of `h` from `t0` that holds `y` after
+/// `from` steps (`from < n`) and has spent `calls` evaluations: the very operations the
+/// whole run would do from there. The lockstep path hands tracers over to it.
+#[allow(clippy::too_many_arguments)]
+#[inline]
+pub(super) fn resume_rk4<const N: usize, Sys: System<N>>(
+    sys: &Sys,
+    mut y: [f64; N],
+    t0: f64,
+    horizon: f64,
+    n: u64,
+    h: f64,
+    from: u64,
+    mut calls: u32,
+) -> Outcome<N> {
+    // The time integrate_rk4 holds after `from` steps (t₀ itself before the first).
+    let mut t = if from == 0 { t0 } else { t0 + from as f64 * h };
+    for s in from..n {
         calls = calls.saturating_add(4);
         if let Some(y1) = rk4_step(sys, t, h, &y) {
             y = y1;
@@ -200,7 +217,12 @@ fn lane_stage<const I: usize, const N: usize, Sys: System<N>>(
 /// [`stages`] in the same order (so results match [`rk4_step`] bit for bit).
 #[allow(clippy::needless_range_loop)]
 #[inline(always)]
-fn stage_input<const N: usize>(i: usize, h: f64, y: &[f64; N], k: &[[f64; N]; 4]) -> [f64; N] {
+pub(super) fn stage_input<const N: usize>(
+    i: usize,
+    h: f64,
+    y: &[f64; N],
+    k: &[[f64; N]; 4],
+) -> [f64; N] {
     let mut yi = *y;
     for j in 0..i {
         let a = RK4.a[i][j];
