@@ -2,9 +2,16 @@
 same weighted fluctuation matrix, timed with numpy.linalg.svd (thin) and with the snapshot
 method (numpy.linalg.eigh of the correlation matrix). Prints one line per case.
 
-Run: tests/.venv/bin/python tests/python/bench_modes_numpy.py
+Run: tests/.venv/bin/python tests/python/bench_modes_numpy.py [--demo NPZ] [--synthetic NPZ]
+[--repeats N] [--json]. `--synthetic` reads the set crate/examples/modes_bench.rs writes
+(`--write-synthetic`), so both sides decompose the very same float32 numbers; without it the
+recipe below builds the set (equal up to float32 rounding). `--json` prints one JSON line per
+case with the leading singular values, for tests/bench/run-modes.sh. Thread counts are the
+caller's (run-modes.sh pins OpenBLAS to one thread).
 """
 
+import argparse
+import json
 import pathlib
 import sys
 import time
@@ -38,12 +45,12 @@ def best_of(fn, repeats):
     times = []
     for _ in range(repeats):
         t0 = time.perf_counter()
-        fn()
+        out = fn()
         times.append(time.perf_counter() - t0)
-    return min(times), float(np.median(times))
+    return min(times), float(np.median(times)), out
 
 
-def run(name, d, repeats):
+def run(name, d, repeats, svd_repeats, as_json):
     def full_pod_svd():
         ref = reference_pod(d)  # builds the weighted matrix and runs np.linalg.svd
         return ref["s"][:20]
@@ -61,15 +68,38 @@ def run(name, d, repeats):
         lam, V = np.linalg.eigh(Y.T @ Y)
         V = V[:, ::-1][:, :20]
         s = np.sqrt(lam[::-1][:20])
-        return (Y @ V) / s
+        return (Y @ V) / s, s
 
-    for label, fn in (("numpy svd (thin)", full_pod_svd), ("numpy snapshot (eigh)", snapshot)):
-        best, med = best_of(fn, repeats)
-        print(f"{name:24s} {label:24s} best {best:8.3f} s  median {med:8.3f} s")
+    cases = (("svd", "numpy svd (thin)", full_pod_svd, svd_repeats),
+             ("snapshot", "numpy snapshot (eigh)", lambda: snapshot()[1], repeats))
+    for key, label, fn, reps in cases:
+        best, med, s = best_of(fn, reps)
+        if as_json:
+            print(json.dumps(dict(data=name, method=key, best_s=best, median_s=med, runs=reps,
+                                  singular_values=[float(x) for x in s])), flush=True)
+        else:
+            print(f"{name:24s} {label:24s} best {best:8.3f} s  median {med:8.3f} s")
+
+
+def load_series(path):
+    with np.load(path) as f:
+        d = {k: f[k] for k in ("x", "y", "t", "u", "v") if k in f.files}
+        d["mask"] = f["mask"] if "mask" in f.files else np.zeros(d["u"].shape[1:], bool)
+    return d
 
 
 if __name__ == "__main__":
-    with np.load(ROOT / "demo-fields" / "fin-wake.npz") as f:
-        demo = {k: f[k] for k in ("x", "y", "t", "u", "v", "mask")}
-    run("demo 100x40x240", demo, 10)
-    run("synthetic 200x100x1000", synthetic(), 3)
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--demo", default=str(ROOT / "demo-fields" / "fin-wake.npz"))
+    ap.add_argument("--synthetic", help=".npz of the synthetic set (default: build it here)")
+    ap.add_argument("--repeats", type=int, default=0, help="runs per case (default 10 / 3)")
+    ap.add_argument("--svd-repeats", type=int, default=0, help="runs of the thin SVD (default: --repeats)")
+    ap.add_argument("--only", choices=["demo", "synthetic"], help="one data set only")
+    ap.add_argument("--json", action="store_true")
+    a = ap.parse_args()
+    if a.only != "synthetic":
+        run("demo", load_series(a.demo), a.repeats or 10, a.svd_repeats or a.repeats or 10, a.json)
+    if a.only != "demo":
+        synth = load_series(a.synthetic) if a.synthetic else synthetic()
+        run("synthetic 200x100x1000", synth, a.repeats or 3, a.svd_repeats or a.repeats or 3,
+            a.json)
