@@ -21,14 +21,20 @@
 //!
 //! Conventions: the mean is not subtracted (that turns DMD into a DFT, Chen, Tu & Rowley
 //! 2012, J. Nonlinear Sci. 22:887); modes are sorted by amplitude |b_j| (unit-norm modes),
-//! each complex-conjugate pair adjacent, positive frequency first. Needs uniform Δt.
+//! each complex-conjugate pair adjacent, positive frequency first. A mode is defined up to
+//! a complex phase, which the eigensolver leaves to round-off; so that results are the same
+//! on every platform and run, each mode is rotated so its largest-|·| entry (over the stacked
+//! u, v vector of the physical mode; the first one of entries equal to a relative 1e-8) is
+//! real and positive, and its amplitude b_j takes the opposite rotation, so φ_j b_j and
+//! every reconstruction and forecast are unchanged ([`Dmd::apply_phase_convention`]; the
+//! same reference component as POD's sign rule). Conjugate pairs stay conjugate. Needs uniform Δt.
 //! Cost: one thin SVD (see [`super::linalg`]) plus O(n m r). Failure modes: rank above the
 //! data's signal rank fits noise (spurious damped modes); standing oscillations need time
 //! delays (not offered here).
 
 use super::linalg::{thin_svd, SvdRoute};
 use super::rank::RankRule;
-use super::snapshots::{uniform_step, SnapshotLayout};
+use super::snapshots::{fix_phase, uniform_step, SnapshotLayout};
 use super::ModesError;
 use crate::field::Series;
 use faer::linalg::solvers::Solve;
@@ -157,7 +163,7 @@ pub fn dmd(series: &Series, opts: &DmdOptions) -> Result<Dmd, ModesError> {
         }
     }
     let order = pair_order(&mu, &b);
-    Ok(Dmd {
+    let mut out = Dmd {
         layout,
         dt,
         t0: series.times()[0],
@@ -166,7 +172,9 @@ pub fn dmd(series: &Series, opts: &DmdOptions) -> Result<Dmd, ModesError> {
         amplitudes: order.iter().map(|&j| b[j]).collect(),
         singular_values: full.s,
         variant: opts.variant,
-    })
+    };
+    out.apply_phase_convention();
+    Ok(out)
 }
 
 /// Least-squares amplitudes (Jovanović et al. 2014): minimise ‖Y − Φ diag(b) V‖_F with
@@ -235,6 +243,17 @@ fn pair_order(mu: &[c64], b: &[c64]) -> Vec<usize> {
 }
 
 impl Dmd {
+    /// Applies the phase convention of the module doc: each mode rotated by e^{−iθ} so its
+    /// reference component ([`super::snapshots::reference_component`]) is real and
+    /// positive, its amplitude by e^{iθ}. Idempotent; φ_j b_j, conjugate pairs and every
+    /// reconstruction are unchanged. [`dmd`] returns modes in this convention.
+    pub fn apply_phase_convention(&mut self) {
+        for j in 0..self.rank() {
+            let rot = fix_phase(self.modes.col_as_slice_mut(j));
+            self.amplitudes[j] /= rot;
+        }
+    }
+
     pub fn rank(&self) -> usize {
         self.eigenvalues.len()
     }
@@ -293,5 +312,68 @@ impl Dmd {
         out.sort_unstable();
         out.dedup();
         out
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::modes::snapshots::{reference_component, test_phases, test_waves};
+
+    fn all_snapshots(d: &Dmd, m: usize) -> Vec<f64> {
+        let all: Vec<usize> = (0..d.rank()).collect();
+        (0..m).flat_map(|k| d.reconstruct(k, &all)).collect()
+    }
+
+    #[test]
+    fn phase_convention_holds_and_keeps_reconstructions() {
+        let m = 60;
+        let s = test_waves(12, 8, m, 0.05);
+        for variant in [DmdVariant::Exact, DmdVariant::TotalLeastSquares] {
+            let opts =
+                DmdOptions { rank: RankRule::Energy(1.0 - 1e-10), variant, ..Default::default() };
+            let d = dmd(&s, &opts).unwrap();
+            assert!(d.rank() >= 5, "{variant:?}: rank {}", d.rank());
+            for j in 0..d.rank() {
+                let col = d.modes.col_as_slice(j);
+                let r = reference_component(col.len(), |i| col[i].norm()).unwrap();
+                assert!(col[r].re > 0.0 && col[r].im == 0.0, "{variant:?} mode {j}: {:?}", col[r]);
+                if let Some(p) = d.partner(j) {
+                    let other = d.modes.col_as_slice(p);
+                    let err = col
+                        .iter()
+                        .zip(other)
+                        .map(|(a, b)| (a - b.conj()).norm())
+                        .fold(0.0, f64::max);
+                    assert!(err < 1e-12, "{variant:?} pair {j}, {p}: {err}");
+                }
+            }
+            // A random phase on every mode (the amplitude rotated back) returns to the same
+            // basis; the reconstruction is unchanged by either step.
+            let reference = all_snapshots(&d, m);
+            let scale = reference.iter().fold(0.0f64, |a, x| a.max(x.abs()));
+            let mut q = d.clone();
+            for (j, p) in test_phases(q.rank(), 3).into_iter().enumerate() {
+                q.modes.col_as_slice_mut(j).iter_mut().for_each(|z| *z *= p);
+                q.amplitudes[j] /= p;
+            }
+            let rotated = all_snapshots(&q, m);
+            q.apply_phase_convention();
+            let again = all_snapshots(&q, m);
+            for (label, other) in [("rotated", &rotated), ("convention", &again)] {
+                let err =
+                    reference.iter().zip(other).map(|(a, b)| (a - b).abs()).fold(0.0, f64::max);
+                assert!(err <= 1e-12 * scale, "{variant:?} {label}: {err}");
+            }
+            for j in 0..d.rank() {
+                let err = (0..d.layout.len())
+                    .map(|i| (q.modes[(i, j)] - d.modes[(i, j)]).norm())
+                    .fold(0.0, f64::max);
+                let top = (0..d.layout.len()).map(|i| d.modes[(i, j)].norm()).fold(0.0, f64::max);
+                assert!(err <= 1e-12 * top, "{variant:?} mode {j}: {err}");
+                let db = (q.amplitudes[j] - d.amplitudes[j]).norm();
+                assert!(db <= 1e-12 * d.amplitudes[j].norm(), "{variant:?} amplitude {j}: {db}");
+            }
+        }
     }
 }

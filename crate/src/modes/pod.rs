@@ -12,8 +12,12 @@
 //!
 //! so q_k = q̄ + Σ_j φ_j b_j(t_k) exactly when every mode is kept.
 //!
-//! Conventions: modes sorted by energy; sign fixed so the largest-|·| entry of each φ_j is
-//! positive (coefficients flipped with it). Routes: snapshot method or direct SVD
+//! Conventions: modes sorted by energy. A mode is defined up to its sign; so that results
+//! are the same on every platform and run, the sign is fixed so the largest-|·| entry of
+//! φ_j (over the stacked u, v vector of the physical mode; the first one of entries equal
+//! to a relative 1e-8, e.g. mirror images in a symmetric mode) is positive, and the
+//! coefficients b_j are flipped with it, so φ_j b_j and every reconstruction are unchanged
+//! ([`Pod::apply_sign_convention`]; DMD and SPOD fix a complex phase by the same component). Routes: snapshot method or direct SVD
 //! ([`SvdRoute`], `Auto` by shape), or the randomized SVD ([`RandomizedSvd`]) for the
 //! leading k modes. Cost: O(n m²) for the first two, O(n m k) for the randomized one.
 //! Failure modes: fewer modes than asked when the data's numerical rank is lower (at most
@@ -22,7 +26,7 @@
 
 use super::linalg::{thin_svd, SvdRoute, ThinSvd};
 use super::randomized::RandomizedSvd;
-use super::snapshots::SnapshotLayout;
+use super::snapshots::{fix_sign, SnapshotLayout};
 use super::ModesError;
 use crate::field::Series;
 use faer::Mat;
@@ -124,19 +128,31 @@ fn assemble(
         for i in 0..n {
             col[i] = u[(i, j)] * inv_sw[i];
         }
-        // Sign rule: the largest-|·| entry of φ_j is positive.
-        let big = col.iter().copied().fold(0.0f64, |a, x| if x.abs() > a.abs() { x } else { a });
-        let sign = if big < 0.0 { -1.0 } else { 1.0 };
-        col.iter_mut().for_each(|x| *x *= sign);
         let c = coefficients.col_as_slice_mut(j);
         for k in 0..m {
-            c[k] = sign * sm * s[j] * v[(k, j)];
+            c[k] = sm * s[j] * v[(k, j)];
         }
     }
-    Pod { layout, mean, modes, singular_values: s, coefficients, total_energy, solver }
+    let mut pod =
+        Pod { layout, mean, modes, singular_values: s, coefficients, total_energy, solver };
+    pod.apply_sign_convention();
+    pod
 }
 
 impl Pod {
+    /// Applies the sign convention of the module doc: each mode flipped so its reference
+    /// component ([`super::snapshots::reference_component`]: the largest |φ_j| entry, the
+    /// first of near-ties) is positive, its coefficients flipped with it. Idempotent; φ_j b_j
+    /// and so every reconstruction are unchanged. [`pod`] returns bases in this convention.
+    pub fn apply_sign_convention(&mut self) {
+        for j in 0..self.rank() {
+            let sign = fix_sign(self.modes.col_as_slice_mut(j));
+            if sign < 0.0 {
+                self.coefficients.col_as_slice_mut(j).iter_mut().for_each(|x| *x = -*x);
+            }
+        }
+    }
+
     /// Number of modes kept.
     pub fn rank(&self) -> usize {
         self.singular_values.len()
@@ -185,5 +201,47 @@ impl Pod {
         let (mut u, mut v) = (vec![0.0; plane], vec![0.0; plane]);
         self.layout.scatter(self.modes.col_as_slice(j), &mut u, &mut v);
         (u, v)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::modes::snapshots::{reference_component, test_waves};
+
+    fn max_reconstruction(p: &Pod, which: &[usize]) -> Vec<f64> {
+        (0..p.coefficients.nrows()).flat_map(|k| p.reconstruct(k, which, true)).collect()
+    }
+
+    #[test]
+    fn sign_convention_holds_and_keeps_reconstructions() {
+        let s = test_waves(12, 8, 60, 0.05);
+        for solver in [
+            PodSolver::Exact(SvdRoute::Snapshot),
+            PodSolver::Exact(SvdRoute::Direct),
+            PodSolver::Randomized(RandomizedSvd::default()),
+        ] {
+            let p = pod(&s, &PodOptions { rank: Some(6), solver, subtract_mean: true }).unwrap();
+            let all: Vec<usize> = (0..p.rank()).collect();
+            for j in 0..p.rank() {
+                let col = p.modes.col_as_slice(j);
+                let r = reference_component(col.len(), |i| col[i].abs()).unwrap();
+                assert!(col[r] > 0.0, "{solver:?} mode {j}");
+            }
+            // Any signs on input come back to the same basis; reconstructions unchanged.
+            let mut q = p.clone();
+            for j in (0..q.rank()).step_by(2) {
+                q.modes.col_as_slice_mut(j).iter_mut().for_each(|x| *x = -*x);
+                q.coefficients.col_as_slice_mut(j).iter_mut().for_each(|x| *x = -*x);
+            }
+            let before = max_reconstruction(&q, &all);
+            q.apply_sign_convention();
+            assert_eq!(q.modes, p.modes);
+            assert_eq!(q.coefficients, p.coefficients);
+            let after = max_reconstruction(&q, &all);
+            let scale = before.iter().fold(0.0f64, |a, x| a.max(x.abs()));
+            let err = before.iter().zip(&after).map(|(a, b)| (a - b).abs()).fold(0.0, f64::max);
+            assert!(err <= 1e-12 * scale, "{solver:?}: {err}");
+        }
     }
 }
