@@ -10,8 +10,8 @@ use sillage::field::{Series, SeriesParts};
 use sillage::lagrangian::analytic::{linspace, DoubleGyre};
 use sillage::lagrangian::{
     flow_map_rows, ftle_points, ftle_rows, integrate_rk4, AdvectOptions, BoundaryPolicy,
-    FlowMapRows, FtleOptions, GradientRoute, GriddedField, Integrator, NodeStatus, SpaceInterp,
-    Stop, TimeInterp, Tracer, TracerGrid, VelocityField,
+    FlowMapRows, FtleOptions, GradientRoute, GriddedField, Integrator, NodeStatus, Rect,
+    SpaceInterp, Stop, TimeInterp, Tracer, TracerGrid, VelocityField,
 };
 
 /// The forced double gyre sampled on a window cut inside its box (tracers leave through
@@ -111,8 +111,8 @@ fn flow_map_matches_per_tracer_rk4() {
         let field = GriddedField::new(&s, SpaceInterp::Bilinear, TimeInterp::Linear);
         let grid = TracerGrid::over_window(&field, 47, 23).unwrap();
         // Forward to the last snapshot, backward, a step that does not divide the horizon,
-        // and backward to the first snapshot (where every tracer's last stage falls a
-        // rounding error before the data and exits: the per-tracer path does the same).
+        // and backward to the first snapshot (whose last stage time rounding may put an ulp
+        // before the data; `runs_ending_on_the_end_snapshots_complete` checks that it counts).
         let horizons = [
             (rk4(2.5, 1.5, 0.05), true),
             (rk4(1.3, -1.2, 0.07), true),
@@ -175,6 +175,44 @@ fn variational_ftle_matches_per_node_integration() {
             assert_eq!(got.flag, want.flag);
             assert_eq!(got.stats, want.stats);
             assert!(got.stats.full > 50 && got.stats.exited + got.stats.short > 50);
+        }
+    }
+}
+
+/// Runs that end exactly on the first or last snapshot, with a step that does not divide the
+/// horizon (so the last stage time t₀ + n·h is computed, not given): every tracer of a
+/// window where the velocity keeps them inside completes the run, on the lockstep path and
+/// on the per-tracer one, and the time integrated is the whole horizon. Before the time
+/// tolerance of the field, rounding put that last stage an ulp outside the record and
+/// marked every tracer as exited (a bug found while building the lockstep path).
+#[test]
+fn runs_ending_on_the_end_snapshots_complete() {
+    // Uniform flow of 0.01 in x on [0, 1]²: over a horizon of 1.2 a tracer moves 0.012.
+    let times = linspace(0.0, 1.2, 13);
+    let (x, y) = (linspace(0.0, 1.0, 11), linspace(0.0, 1.0, 11));
+    let n = x.len() * y.len() * times.len();
+    let s = Series::from_parts(SeriesParts {
+        x,
+        y,
+        t: times.clone(),
+        u: vec![0.01; n],
+        v: vec![0.0; n],
+        ..Default::default()
+    })
+    .unwrap();
+    let field = GriddedField::new(&s, SpaceInterp::Bilinear, TimeInterp::Linear);
+    let rect = Rect { x0: 0.3, x1: 0.7, y0: 0.2, y1: 0.8 };
+    let grid = TracerGrid::new(rect, 24, 20).unwrap();
+    for (t0, horizon) in [(1.2, -1.2), (0.0, 1.2), (0.9, 0.3), (0.5, -0.5)] {
+        for max_step in [0.07, 0.013, 0.1] {
+            let o = rk4(t0, horizon, max_step);
+            let fm = flow_map_rows(&field, &grid, &o, 0, grid.ny()).unwrap();
+            let (complete, exited) = check_flow_map(&field, &grid, &o, &fm);
+            assert_eq!(exited, 0, "t0 {t0}, horizon {horizon}, step {max_step}");
+            assert_eq!(complete, grid.nx() * grid.ny());
+            // τ = |(t₀ + T) − t₀|: the horizon up to the rounding of that difference.
+            let whole = fm.tau.iter().all(|&tau| (tau - horizon.abs()).abs() <= 1e-12);
+            assert!(whole, "{:?}", &fm.tau[..3]);
         }
     }
 }

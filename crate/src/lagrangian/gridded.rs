@@ -15,7 +15,7 @@
 //! sample costs one flag load per snapshot used.
 
 use super::kernels::{
-    hermite_time, keys_fold, keys_weights, linear_time, locate_time, TimeStencil,
+    hermite_time, keys_fold, keys_weights, linear_time, locate_time, TimeStencil, TIME_TOL,
 };
 use super::velocity::{Mat2, Rect, Vec2, VelocityField};
 use crate::field::Series;
@@ -115,6 +115,9 @@ struct LinearPath {
     /// First and last snapshot times, 1/Δt, and nt − 2 (the last interval).
     t_first: f64,
     t_last: f64,
+    /// [t_first, t_last] widened by kernels::TIME_TOL of the record: the accepted times.
+    t_lo: f64,
+    t_hi: f64,
     inv_dt: f64,
     last_k: i32,
 }
@@ -124,7 +127,9 @@ impl LinearPath {
     /// uniform spacing: no search and no division.
     #[inline(always)]
     fn interval(&self, t: f64) -> (usize, f64) {
-        let tt = (t - self.t_first) * self.inv_dt;
+        // Within `t_lo..=t_hi` here; times a rounding error outside the record count as its
+        // end snapshots (kernels::TIME_TOL), as on the general path.
+        let tt = (t.clamp(self.t_first, self.t_last) - self.t_first) * self.inv_dt;
         let k = (tt as i32).min(self.last_k);
         (k as usize, tt - k as f64)
     }
@@ -227,6 +232,8 @@ impl<'a> GriddedField<'a> {
                         last_j: (ny - 2) as i32,
                         t_first,
                         t_last: times[nt - 1],
+                        t_lo: t_first - TIME_TOL * (times[nt - 1] - t_first),
+                        t_hi: times[nt - 1] + TIME_TOL * (times[nt - 1] - t_first),
                         inv_dt,
                         last_k: (nt - 2) as i32,
                     })
@@ -255,7 +262,7 @@ impl<'a> GriddedField<'a> {
     /// Only meaningful when [`Self::sliceable`].
     pub(super) fn bracket(&self, t: f64) -> Option<Bracket> {
         if let Some(lp) = &self.linear {
-            if !((t >= lp.t_first) & (t <= lp.t_last)) {
+            if !((t >= lp.t_lo) & (t <= lp.t_hi)) {
                 return None;
             }
             let (k, s) = lp.interval(t);
@@ -455,8 +462,8 @@ impl<'a> GriddedField<'a> {
             & (fx <= lp.mx + EDGE_TOL)
             & (fy >= -EDGE_TOL)
             & (fy <= lp.my + EDGE_TOL)
-            & (t >= lp.t_first)
-            & (t <= lp.t_last);
+            & (t >= lp.t_lo)
+            & (t <= lp.t_hi);
         if !inside {
             return None;
         }

@@ -62,6 +62,12 @@ pub struct TimeStencil {
     pub w: [f64; 4],
 }
 
+/// Tolerance, as a fraction of the record length, for stage times a rounding error outside
+/// the first or last snapshot: the last stage of a run that ends exactly on a snapshot time
+/// is t₀ + n·h, which rounding can put an ulp beyond it (backward runs to the first
+/// snapshot did exit on their very last stage). Such times count as the end snapshot.
+pub const TIME_TOL: f64 = 1e-9;
+
 /// Locates `t` among ascending `times`: the index k with `times[k] ≤ t ≤ times[k+1]`
 /// (k ≤ nt − 2) and the fraction s in the interval. `None` if `t` is outside or not finite.
 /// `uniform` = (t0, 1/Δt) when the times are evenly spaced, for an O(1) lookup.
@@ -69,9 +75,11 @@ pub struct TimeStencil {
 pub fn locate_time(times: &[f64], uniform: Option<(f64, f64)>, t: f64) -> Option<(usize, f64)> {
     let nt = times.len();
     let (first, last) = (times[0], times[nt - 1]);
-    if !(t >= first && t <= last) {
+    let tol = TIME_TOL * (last - first);
+    if !(t >= first - tol && t <= last + tol) {
         return None;
     }
+    let t = t.clamp(first, last);
     let mut k = match uniform {
         Some((t0, inv)) => (((t - t0) * inv) as usize).min(nt - 2),
         None => times.partition_point(|&x| x <= t).saturating_sub(1).min(nt - 2),

@@ -50,23 +50,23 @@ pub(super) const MIN_TRACERS: usize = 16;
 
 /// The grid geometry of a sample, as the field's own sample sees it.
 #[derive(Debug, Clone, Copy)]
-struct Geometry {
+pub(super) struct Geometry {
     x0: f64,
     y0: f64,
-    inv_dx: f64,
-    inv_dy: f64,
+    pub(super) inv_dx: f64,
+    pub(super) inv_dy: f64,
     /// nx − 1, ny − 1: the last node, in cells.
     mx: f64,
     my: f64,
     /// nx − 2, ny − 2: the last cell, as f64.
     last_x: f64,
-    last_y: f64,
-    nx: usize,
+    pub(super) last_y: f64,
+    pub(super) nx: usize,
     ny: usize,
 }
 
 impl Geometry {
-    fn of(src: &SliceSource) -> Geometry {
+    pub(super) fn of(src: &SliceSource) -> Geometry {
         let (nx, ny) = (src.nx, src.ny);
         // What `locate`'s conversions rely on (the field checks the same for its own path).
         assert!(nx >= 2 && ny >= 2 && nx.max(ny) <= i32::MAX as usize, "grid {nx}×{ny}");
@@ -87,7 +87,7 @@ impl Geometry {
 
 /// The field at one time, blended from its bracketing snapshots on a band of rows.
 #[derive(Debug, Clone)]
-struct Slice {
+pub(super) struct Slice {
     /// Stage time the slice holds (compared bit for bit when reusing a slice).
     time: f64,
     /// Cell rows `lo..=hi` blended; `None` before the first blend.
@@ -102,19 +102,25 @@ struct Slice {
 }
 
 impl Slice {
-    fn new(nx: usize, ny: usize) -> Slice {
+    pub(super) fn new(nx: usize, ny: usize) -> Slice {
         Slice { time: f64::NAN, rows: None, uv: vec![[0.0; 2]; nx * ny], ok: vec![false; nx * ny] }
     }
 
     /// Whether the slice holds time `t` on (at least) cell rows `need`.
-    fn holds(&self, t: f64, need: (usize, usize)) -> bool {
+    pub(super) fn holds(&self, t: f64, need: (usize, usize)) -> bool {
         self.time.to_bits() == t.to_bits()
             && self.rows.is_some_and(|(lo, hi)| lo <= need.0 && hi >= need.1)
     }
 
     /// Blends the field at time `t` on cell rows `rows.0..=rows.1` (nodes up to one row
     /// more), with the weights and cell checks of the field's own samples.
-    fn blend(&mut self, field: &GriddedField, src: &SliceSource, t: f64, rows: (usize, usize)) {
+    pub(super) fn blend(
+        &mut self,
+        field: &GriddedField,
+        src: &SliceSource,
+        t: f64,
+        rows: (usize, usize),
+    ) {
         self.time = t;
         self.rows = Some(rows);
         self.ok.fill(false);
@@ -171,7 +177,7 @@ fn clamp_to_grid(v: f64, max: f64) -> f64 {
 /// still yields a valid cell, whose values the caller discards. The node index is always
 /// that of a cell's first corner: `node + nx + 1 < nx·ny`, which [`corners`] relies on.
 #[inline(always)]
-fn locate(g: &Geometry, p: &[f64]) -> (bool, usize, f64, f64) {
+pub(super) fn locate(g: &Geometry, p: &[f64]) -> (bool, usize, f64, f64) {
     let fx = (p[0] - g.x0) * g.inv_dx;
     let fy = (p[1] - g.y0) * g.inv_dy;
     // Non-short-circuit `&`: one combined test, no branch.
@@ -193,7 +199,7 @@ fn locate(g: &Geometry, p: &[f64]) -> (bool, usize, f64, f64) {
 /// The four corners (i, j), (i+1, j), (i, j+1), (i+1, j+1) of the cell at `node`, (u, v)
 /// each, and whether the cell has data.
 #[inline(always)]
-fn corners(s: &Slice, g: &Geometry, node: usize) -> ([[f64; 2]; 4], bool) {
+pub(super) fn corners(s: &Slice, g: &Geometry, node: usize) -> ([[f64; 2]; 4], bool) {
     let nx = g.nx;
     debug_assert!(node + nx + 1 < s.uv.len() && s.ok.len() == s.uv.len());
     // SAFETY: `node` comes from `locate` on the geometry the slice was made for (checked
@@ -207,7 +213,7 @@ fn corners(s: &Slice, g: &Geometry, node: usize) -> ([[f64; 2]; 4], bool) {
 
 /// Bilinear value of one component from the corners, the field's own expression.
 #[inline(always)]
-fn lerp(c: &[[f64; 2]; 4], n: usize, sx: f64, sy: f64) -> f64 {
+pub(super) fn lerp(c: &[[f64; 2]; 4], n: usize, sx: f64, sy: f64) -> f64 {
     (1.0 - sy) * ((1.0 - sx) * c[0][n] + sx * c[1][n]) + sy * ((1.0 - sx) * c[2][n] + sx * c[3][n])
 }
 
@@ -299,7 +305,7 @@ pub(super) fn integrate_tangent(
 /// Largest |v| over the snapshots that the stage times of [t₀, t₀ + T] combine: it bounds
 /// how far a stage point can move along y within a step (a slice value and a bilinear
 /// sample are convex combinations of snapshot values).
-fn max_abs_v(field: &GriddedField, src: &SliceSource, t0: f64, horizon: f64) -> f64 {
+pub(super) fn max_abs_v(field: &GriddedField, src: &SliceSource, t0: f64, horizon: f64) -> f64 {
     let plane = src.nx * src.ny;
     let nt = src.u.len() / plane;
     let first = |t: f64| field.bracket(t).map(|b| b.first);

@@ -35,11 +35,13 @@ pub mod ridges;
 mod rk4;
 mod seeding;
 pub mod sequence;
+mod slice_set;
 mod system;
 mod tableau;
 mod velocity;
 
 pub use dormand_prince::{integrate_dopri, DopriOptions, EXIT_RESOLUTION};
+pub(crate) use engine::lockstep_field;
 pub use engine::{
     flow_map_rows, AdvectOptions, BoundaryPolicy, FlowMapRows, Integrator, NodeStatus,
 };
@@ -54,6 +56,7 @@ pub use ridges::{extract_ridges, Ridge, RidgeOptions};
 pub use rk4::{integrate_rk4, rk4_step, step_count, EXIT_BISECTIONS};
 pub use seeding::TracerGrid;
 pub use sequence::{ftle_sequence, SequenceMethod, COMPOSITION_ROUTE};
+pub(crate) use slice_set::SliceSet;
 pub use system::{satellites_start, Satellites, System, Tangent, Tracer};
 pub use tableau::{Tableau, DOPRI54, RK4};
 pub use velocity::{Extended, Mat2, Rect, Vec2, VelocityField, Windowed};

@@ -24,6 +24,7 @@ mod agreement;
 pub mod analytic;
 mod error;
 mod export;
+mod lockstep;
 #[cfg(feature = "cli")]
 pub mod parallel;
 mod perturbed;

@@ -1,11 +1,12 @@
 //! Sensitivity fields on rows `j0..j1` of a tracer grid: the entry point both the CLI (rayon
 //! over row chunks) and the page's workers call, deterministic whatever the split.
 
-use super::trajectory::{trajectory, TrajectoryBuffer};
+use super::lockstep::{tile, tile_size, PerturbationSamples, TileBuffers, MIN_TILE};
+use super::trajectory::{trajectory, TrajectoryBuffer, TrajectorySensitivity};
 use super::SensitivityError;
 use crate::lagrangian::{
-    singular_values, step_count, AdvectOptions, BoundaryPolicy, Extended, FtleFlag, FtleRows,
-    FtleStats, Integrator, TracerGrid, VelocityField,
+    lockstep_field, singular_values, step_count, AdvectOptions, BoundaryPolicy, Extended, FtleFlag,
+    FtleRows, FtleStats, Integrator, SliceSet, TracerGrid, Vec2, VelocityField,
 };
 use serde::{Deserialize, Serialize};
 
@@ -245,60 +246,91 @@ fn rows_with<S: VelocityField, F: VelocityField, G: VelocityField>(
     let t0 = o.advect.t0;
     let t_abs = o.advect.horizon.abs();
     let mut r = SensitivityRows::with_capacity(grid, j0, j1, o);
-    let mut buf = TrajectoryBuffer::default();
+    // Seeds with a velocity at t₀, in row order; the others are masked.
+    let mut seeded = Vec::with_capacity((j1 - j0) * grid.nx());
+    let mut seeds = Vec::new();
     for j in j0..j1 {
         for i in 0..grid.nx() {
             let p = grid.node(i, j);
-            if seed_field.velocity(p, t0).is_none() {
-                r.push_empty(FtleFlag::Masked);
-                continue;
+            let ok = seed_field.velocity(p, t0).is_some();
+            seeded.push(ok);
+            if ok {
+                seeds.push(p);
             }
-            let Some(s) = trajectory(f, g, p, t0, h, n, &mut buf) else {
-                r.push_empty(FtleFlag::NoValue);
-                continue;
-            };
-            let tau = s.steps as f64 * h.abs();
-            let flag = if s.steps == n {
-                FtleFlag::Full
-            } else if tau >= 0.5 * t_abs {
-                FtleFlag::Exited
-            } else {
-                FtleFlag::Short
-            };
-            match flag {
-                FtleFlag::Full => r.stats.full += 1,
-                FtleFlag::Exited => r.stats.exited += 1,
-                _ => r.stats.short += 1,
-            }
-            let (s1, s2) = singular_values(s.grad);
-            let sigma = s1.ln() / tau;
-            let (sigma_ms, zeta) = if s.ms_g > 0.0 {
-                let sm = (s.ms_g / (tau * o.g_ref)).ln() / tau;
-                (sm, sm - sigma)
-            } else {
-                r.stats.zero_perturbation += 1;
-                (0.0, 0.0)
-            };
-            let xi = s.xi[0].hypot(s.xi[1]);
-            let det = (s1 * s2 - 1.0).abs();
-            let values = [
-                s.ms,
-                s.ms_g,
-                s.strain_bound,
-                xi,
-                s.xi[0],
-                s.xi[1],
-                sigma,
-                sigma_ms,
-                zeta,
-                tau,
-                det,
-            ];
-            for (m, v) in r.float_maps_mut().into_iter().zip(values) {
-                m.push(if v.is_finite() { v as f32 } else { 0.0 });
-            }
-            r.flag.push(flag);
         }
     }
+    let mut results = trajectories(f, g, &seeds, (t0, h, n)).into_iter();
+    for ok in seeded {
+        if !ok {
+            r.push_empty(FtleFlag::Masked);
+            continue;
+        }
+        let Some(s) = results.next().flatten() else {
+            r.push_empty(FtleFlag::NoValue);
+            continue;
+        };
+        let tau = s.steps as f64 * h.abs();
+        let flag = if s.steps == n {
+            FtleFlag::Full
+        } else if tau >= 0.5 * t_abs {
+            FtleFlag::Exited
+        } else {
+            FtleFlag::Short
+        };
+        match flag {
+            FtleFlag::Full => r.stats.full += 1,
+            FtleFlag::Exited => r.stats.exited += 1,
+            _ => r.stats.short += 1,
+        }
+        let (s1, s2) = singular_values(s.grad);
+        let sigma = s1.ln() / tau;
+        let (sigma_ms, zeta) = if s.ms_g > 0.0 {
+            let sm = (s.ms_g / (tau * o.g_ref)).ln() / tau;
+            (sm, sm - sigma)
+        } else {
+            r.stats.zero_perturbation += 1;
+            (0.0, 0.0)
+        };
+        let xi = s.xi[0].hypot(s.xi[1]);
+        let det = (s1 * s2 - 1.0).abs();
+        let values =
+            [s.ms, s.ms_g, s.strain_bound, xi, s.xi[0], s.xi[1], sigma, sigma_ms, zeta, tau, det];
+        for (m, v) in r.float_maps_mut().into_iter().zip(values) {
+            m.push(if v.is_finite() { v as f32 } else { 0.0 });
+        }
+        r.flag.push(flag);
+    }
     r
+}
+
+/// [`trajectory`]'s result for every seed, in order: tile by tile in lockstep on time
+/// slices when f is sliceable gridded data (`lockstep.rs`, bit-identical), else one
+/// trajectory at a time.
+fn trajectories<F: VelocityField, G: VelocityField>(
+    f: &F,
+    g: &G,
+    seeds: &[Vec2],
+    (t0, h, n): (f64, f64, usize),
+) -> Vec<Option<TrajectorySensitivity>> {
+    let size = tile_size(n);
+    match lockstep_field(f) {
+        Some(fg) if seeds.len() >= MIN_TILE && size >= MIN_TILE => {
+            let mut gs = match lockstep_field(g) {
+                Some(gg) => PerturbationSamples::Slices(SliceSet::new(gg, 1, None)),
+                None => PerturbationSamples::Field(g),
+            };
+            let mut bufs = TileBuffers::default();
+            let mut out = Vec::with_capacity(size.min(seeds.len()));
+            let mut all = Vec::with_capacity(seeds.len());
+            for part in seeds.chunks(size) {
+                tile(f, fg, g, &mut gs, part, (t0, h, n), &mut bufs, &mut out);
+                all.append(&mut out);
+            }
+            all
+        }
+        _ => {
+            let mut buf = TrajectoryBuffer::default();
+            seeds.iter().map(|&p| trajectory(f, g, p, t0, h, n, &mut buf)).collect()
+        }
+    }
 }

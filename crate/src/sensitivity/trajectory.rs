@@ -90,29 +90,51 @@ fn mat_vec(a: &Mat2, v: Vec2) -> Vec2 {
 
 const IDENTITY: Mat2 = [[1.0, 0.0], [0.0, 1.0]];
 
+/// A stage sample: the velocity and its gradient at a stage point.
+pub(super) type StageSample = (Vec2, Mat2);
+
+/// Where RK4 stage `i` samples, from the step's start `x` and the previous stage's
+/// velocity `u` (unused for stage 0): the expressions of `lagrangian::rk4_step`.
+#[inline(always)]
+pub(super) fn stage_point(i: usize, h: f64, x: Vec2, u: Vec2) -> Vec2 {
+    match i {
+        0 => x,
+        1 | 2 => [x[0] + 0.5 * h * u[0], x[1] + 0.5 * h * u[1]],
+        _ => [x[0] + h * u[0], x[1] + h * u[1]],
+    }
+}
+
 /// One RK4 step of (x, M) from (x, I): the new position, Φ, ∇f at the start and λmax(S)
-/// at mid-step.
-/// Same stages and weights as `lagrangian::rk4_step` on the `Tangent` system.
-#[inline]
-fn tangent_step<F: VelocityField>(
-    f: &F,
+/// at mid-step. Same stages and weights as `lagrangian::rk4_step` on the `Tangent` system.
+///
+/// `vg(p, t, k)` is ∇f's sample at stage time t, which is the step's start (k = 0), middle
+/// (k = 1) or end (k = 2): the field itself here; a lockstep pass samples the stages of a
+/// block of tracers in separate passes on blended slices and calls [`combine_stages`].
+#[inline(always)]
+pub(super) fn tangent_step(
+    vg: impl Fn(Vec2, f64, usize) -> Option<StageSample>,
     t: f64,
     h: f64,
     x: Vec2,
 ) -> Option<(Vec2, Mat2, Mat2, f64)> {
-    let (u1, g1) = f.velocity_gradient(x, t)?;
+    let s1 = vg(x, t, 0)?;
+    let s2 = vg(stage_point(1, h, x, s1.0), t + 0.5 * h, 1)?;
+    let s3 = vg(stage_point(2, h, x, s2.0), t + 0.5 * h, 1)?;
+    let s4 = vg(stage_point(3, h, x, s3.0), t + h, 2)?;
+    Some(combine_stages(h, x, &[s1, s2, s3, s4]))
+}
+
+/// The step from its four stage samples: position, Φ (the tangent stages start from
+/// M = I), ∇f at the start and λmax(S) at mid-step.
+#[inline(always)]
+pub(super) fn combine_stages(h: f64, x: Vec2, s: &[StageSample; 4]) -> (Vec2, Mat2, Mat2, f64) {
+    let [(u1, g1), (u2, g2), (u3, g3), (u4, g4)] = *s;
     let k1 = g1;
-    let x2 = [x[0] + 0.5 * h * u1[0], x[1] + 0.5 * h * u1[1]];
     let m2 = add_scaled(&IDENTITY, 0.5 * h, &k1);
-    let (u2, g2) = f.velocity_gradient(x2, t + 0.5 * h)?;
     let k2 = mul(&g2, &m2);
-    let x3 = [x[0] + 0.5 * h * u2[0], x[1] + 0.5 * h * u2[1]];
     let m3 = add_scaled(&IDENTITY, 0.5 * h, &k2);
-    let (u3, g3) = f.velocity_gradient(x3, t + 0.5 * h)?;
     let k3 = mul(&g3, &m3);
-    let x4 = [x[0] + h * u3[0], x[1] + h * u3[1]];
     let m4 = add_scaled(&IDENTITY, h, &k3);
-    let (u4, g4) = f.velocity_gradient(x4, t + h)?;
     let k4 = mul(&g4, &m4);
     let c = h / 6.0;
     let xn = [
@@ -132,7 +154,7 @@ fn tangent_step<F: VelocityField>(
         [0.5 * (g2[0][0] + g3[0][0]), 0.5 * (g2[0][1] + g3[0][1])],
         [0.5 * (g2[1][0] + g3[1][0]), 0.5 * (g2[1][1] + g3[1][1])],
     ];
-    Some((xn, phi, g1, max_strain_rate(&mean, h)))
+    (xn, phi, g1, max_strain_rate(&mean, h))
 }
 
 #[inline]
@@ -145,6 +167,27 @@ fn add_scaled(a: &Mat2, s: f64, b: &Mat2) -> Mat2 {
 #[derive(Debug, Default)]
 pub struct TrajectoryBuffer {
     nodes: Vec<Node>,
+}
+
+impl TrajectoryBuffer {
+    /// Empty, with room for `steps` steps.
+    pub(super) fn for_steps(steps: usize) -> TrajectoryBuffer {
+        TrajectoryBuffer { nodes: Vec::with_capacity(steps + 1) }
+    }
+
+    pub(super) fn clear(&mut self) {
+        self.nodes.clear();
+    }
+
+    /// Stores node k of a step the caller has taken: the position, g and ∇f there, and
+    /// what [`tangent_step`] returned.
+    #[inline(always)]
+    pub(super) fn push(&mut self, x: Vec2, g: Vec2, (phi, grad, mid): (Mat2, Mat2, f64), h: f64) {
+        self.nodes.push(Node { x, phi, g, grad, strain: max_strain_rate(&grad, h), mid });
+    }
+
+    /// Bytes stored per step.
+    pub(super) const NODE_BYTES: usize = std::mem::size_of::<Node>();
 }
 
 /// Integrates f from `x0` at `t0` in `n` RK4 steps of `h` (signed), evaluating g at every
@@ -160,16 +203,47 @@ pub fn trajectory<F: VelocityField, G: VelocityField>(
     n: usize,
     buf: &mut TrajectoryBuffer,
 ) -> Option<TrajectorySensitivity> {
-    let nodes = &mut buf.nodes;
-    nodes.clear();
-    let mut x = x0;
-    for k in 0..n {
+    buf.clear();
+    let x = forward(f, g, x0, t0, h, 0..n, buf);
+    finish(f, g, x, t0, h, buf)
+}
+
+/// Steps `steps` of the forward pass from `x`, the position after `steps.start` steps whose
+/// nodes `buf` holds, on the fields themselves; stops at the first step where f or g has no
+/// value. Returns the last position reached. A lockstep pass hands its tracers over here
+/// from the step where a slice had no value, and the result is what [`trajectory`] gives.
+pub(super) fn forward<F: VelocityField, G: VelocityField>(
+    f: &F,
+    g: &G,
+    mut x: Vec2,
+    t0: f64,
+    h: f64,
+    steps: std::ops::Range<usize>,
+    buf: &mut TrajectoryBuffer,
+) -> Vec2 {
+    debug_assert_eq!(buf.nodes.len(), steps.start);
+    for k in steps {
         let t = t0 + k as f64 * h;
         let Some(gk) = g.velocity(x, t) else { break };
-        let Some((xn, phi, grad, mid)) = tangent_step(f, t, h, x) else { break };
-        nodes.push(Node { x, phi, g: gk, grad, strain: max_strain_rate(&grad, h), mid });
+        let vg = |p: Vec2, t: f64, _: usize| f.velocity_gradient(p, t);
+        let Some((xn, phi, grad, mid)) = tangent_step(vg, t, h, x) else { break };
+        buf.push(x, gk, (phi, grad, mid), h);
         x = xn;
     }
+    x
+}
+
+/// Ends a forward pass at `x`, after the steps `buf` holds: adds the end node and sweeps
+/// back. `None` when not even one step was taken.
+pub(super) fn finish<F: VelocityField, G: VelocityField>(
+    f: &F,
+    g: &G,
+    mut x: Vec2,
+    t0: f64,
+    h: f64,
+    buf: &mut TrajectoryBuffer,
+) -> Option<TrajectorySensitivity> {
+    let nodes = &mut buf.nodes;
     // The end node needs g and ∇f too. Every stored node had both at its own position, so
     // when the end lacks them, ending one step earlier always works.
     let t_end = t0 + nodes.len() as f64 * h;
