@@ -6,7 +6,7 @@
 //! tangent matrix: the route the sensitivity sweep shares), FTLE by tracer-grid differences
 //! (positions only, the cheapest), and the sensitivity rows (MS, MS_g, strain bound, ξ,
 //! σ_FTLE, σ_MS, ζ together). Memory of the sensitivity rows does not grow with the grid:
-//! each trajectory's propagators live in one reused buffer of (steps + 1) × 112 bytes.
+//! a tile of trajectories stores (steps + 1) × 80 bytes per tracer, at most 24 MiB.
 //!
 //! Run: `cargo bench -p sillage --bench sensitivity`; results go to BENCHMARKS.md.
 

@@ -27,10 +27,11 @@ use super::trajectory::{
 };
 use crate::lagrangian::{GriddedField, SliceSet, Vec2, VelocityField};
 
-/// Upper bound on a tile's node storage: 8 MiB, small next to a tab's memory, and enough
-/// tracers (about 700 at 100 steps) that the rows blended per step are few against the
-/// samples taken on them.
-pub(super) const TILE_BYTES: usize = 8 << 20;
+/// Upper bound on a tile's node storage: 24 MiB, small next to a tab's memory, and enough
+/// tracers (about 1,500 at 200 steps, a dozen rows of a 128-wide grid) that blending the
+/// rows they reach costs little next to the samples taken on them (with a quarter of
+/// this, blending took a fifth of the time on the demo problem).
+pub(super) const TILE_BYTES: usize = 24 << 20;
 
 /// Below this many tracers a tile is not worth its slices: the per-tracer path takes them.
 pub(super) const MIN_TILE: usize = 16;

@@ -14,14 +14,13 @@
 use super::quadrature::node_weights;
 use crate::lagrangian::{Mat2, Vec2, VelocityField};
 
-/// What the forward pass keeps at node k (one trajectory's storage is (N + 1) of these:
-/// memory is bounded by the horizon's step count, whatever the size of the tracer grid).
+/// What the forward pass keeps at node k (one trajectory's storage is (N + 1) of these, 80
+/// bytes each: memory is bounded by the horizon's step count, whatever the size of the
+/// tracer grid).
 #[derive(Debug, Clone, Copy)]
 struct Node {
     /// x(t_k).
     x: Vec2,
-    /// ∇f at (x(t_k), t_k).
-    grad: Mat2,
     /// Φ_k = ∇F_{t_k}^{t_{k+1}} (identity at the last node).
     phi: Mat2,
     /// g(x(t_k), t_k).
@@ -29,7 +28,7 @@ struct Node {
     /// λmax(S) at the middle of step k (unused at the last node).
     mid: f64,
     /// Largest eigenvalue of the rate-of-strain tensor of the flow in the direction of
-    /// integration at (x(t_k), t_k).
+    /// integration at (x(t_k), t_k) (∇f there is not kept: only this enters the sweep).
     strain: f64,
 }
 
@@ -183,7 +182,7 @@ impl TrajectoryBuffer {
     /// what [`tangent_step`] returned.
     #[inline(always)]
     pub(super) fn push(&mut self, x: Vec2, g: Vec2, (phi, grad, mid): (Mat2, Mat2, f64), h: f64) {
-        self.nodes.push(Node { x, phi, g, grad, strain: max_strain_rate(&grad, h), mid });
+        self.nodes.push(Node { x, phi, g, strain: max_strain_rate(&grad, h), mid });
     }
 
     /// Bytes stored per step.
@@ -248,25 +247,18 @@ pub(super) fn finish<F: VelocityField, G: VelocityField>(
     // when the end lacks them, ending one step earlier always works.
     let t_end = t0 + nodes.len() as f64 * h;
     let end = g.velocity(x, t_end).zip(f.velocity_gradient(x, t_end));
-    let (g_end, grad_end) = match end {
-        Some((g_end, (_, grad_end))) => (g_end, grad_end),
+    let (g_end, strain_end) = match end {
+        Some((g_end, (_, grad_end))) => (g_end, max_strain_rate(&grad_end, h)),
         None => {
             let back = nodes.pop()?;
             x = back.x;
-            (back.g, back.grad)
+            (back.g, back.strain)
         }
     };
     if nodes.is_empty() {
         return None;
     }
-    nodes.push(Node {
-        x,
-        phi: IDENTITY,
-        g: g_end,
-        grad: grad_end,
-        strain: max_strain_rate(&grad_end, h),
-        mid: 0.0,
-    });
+    nodes.push(Node { x, phi: IDENTITY, g: g_end, strain: strain_end, mid: 0.0 });
     Some(sweep(nodes, h, x))
 }
 
