@@ -101,6 +101,15 @@ class Dataset {
       c.free();
     }
   }
+  /**
+   * This series with the velocities and gap flags of a cleaning done in a compute worker
+   * (`cleanArrays` there): u, v Float32Array, gaps Uint8Array (empty: none). A new Dataset.
+   */
+  withVelocity(u, v, gaps) {
+    return new Dataset(call(() => this.#inner.withVelocity(u, v, gaps)), this.names);
+  }
+  /** A decomposition computed by a compute worker (`decomposeBytes` there), from its bytes. */
+  modesFromBytes(bytes) { return new Modes(call(() => this.#inner.modesFromBytes(bytes))); }
   /** The selection `text` materialized on this series, as canonical .npz bytes. */
   selectionNpz(text) { return call(() => this.#inner.selectionNpz(text)); }
   sensitivityUnit(id) { return call(() => this.#inner.sensitivityUnit(id)); }
@@ -177,6 +186,21 @@ const api = {
       options.dt,
     ));
     return new Dataset(inner, names);
+  },
+  /**
+   * The memory estimate before reading files (crate/src/memory.rs): `files` [{name, size}],
+   * `pieces` [{file, offset, bytes: Uint8Array}] read so far, `hints` {device_memory_gib?,
+   * heap_limit?, limit?, workers}. Returns {need: [{file, offset, length}], estimate}.
+   */
+  memoryEstimate(files, pieces, hints) {
+    return JSON.parse(call(() => wasm.memoryEstimate(
+      files.map((f) => f.name),
+      Float64Array.from(files, (f) => f.size),
+      Uint32Array.from(pieces, (p) => p.file),
+      Float64Array.from(pieces, (p) => p.offset),
+      pieces.map((p) => p.bytes),
+      JSON.stringify(hints),
+    )));
   },
   /** [{id, label, signed, colormap}] in menu order. */
   quantities() { return JSON.parse(call(() => wasm.quantities())); },

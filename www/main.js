@@ -3,6 +3,7 @@
 import { loadCore, CorePanic, embedded } from './core.js';
 import { createStore } from './state.js';
 import { readFiles, setupFileSources } from './io/files.js';
+import { bytesSource, deviceHints, estimateMemory, fileSource } from './io/memory.js';
 import { onPixelRatioChange } from './views/canvas.js';
 import { createFieldMap } from './views/field_map.js';
 import { createColorbar } from './views/colorbar.js';
@@ -111,11 +112,35 @@ async function start() {
   }
 
   /**
-   * Opens [{name, bytes}] as the new dataset; the old one stays on failure. `label` names
-   * the files in progress notes, `what` in failures (the core's message names the file).
+   * The core's memory estimate for `sources` (io/memory.js), or null when it could not be
+   * made (the reader then says what is wrong with the files). A refusal is shown here.
    */
-  function open(files, label, what = label) {
-    messages.info(`Reading ${label}…`);
+  async function memoryVerdict(sources, label) {
+    let estimate;
+    try {
+      estimate = await estimateMemory(core, sources, deviceHints(pool.size));
+    } catch {
+      return null;
+    }
+    if (!estimate.fits) {
+      messages.error(`Could not open ${label}: ${estimate.refusal}`);
+      document.body.dataset.load = 'refused';
+    }
+    return estimate;
+  }
+
+  /**
+   * Opens [{name, bytes}] as the new dataset; the old one stays on failure, and when the
+   * core's memory estimate says the tab cannot hold them (`estimate`: made before the files
+   * were read, else made here). `label` names the files in progress notes, `what` in
+   * failures (the core's message names the file).
+   */
+  async function open(files, label, what = label, estimate = undefined) {
+    const verdict = estimate === undefined
+      ? await memoryVerdict(files.map((f) => bytesSource(f.name, f.bytes)), label)
+      : estimate;
+    if (verdict && !verdict.fits) return;
+    messages.info(verdict ? `Reading ${label}: ${verdict.text}…` : `Reading ${label}…`);
     // Let the message paint before the (synchronous) read.
     requestAnimationFrame(() => setTimeout(() => {
       guarded(`open ${what}`, () => {
@@ -139,6 +164,8 @@ async function start() {
         });
         if (previous) previous.free();
         messages.clear();
+        $('load-estimate').textContent = verdict ? `Memory: ${verdict.text}` : '';
+        document.body.dataset.load = 'done';
         pool.setDataset(datasetId, dataset.canonicalNpz());
         applyDefaults(dataset);
         sharing.datasetOpened(dataset, files);
@@ -170,17 +197,23 @@ async function start() {
       sharing.openRecipeFile(fileList[0]);
       return;
     }
-    const names = Array.from(fileList, (f) => f.name);
+    // The File objects, kept: the picker's list is emptied once its handler returns (and a
+    // drop's with it), while the estimate below waits for pieces of the files.
+    const chosen = Array.from(fileList);
+    const names = chosen.map((f) => f.name);
     const label = names.length === 1 ? names[0] : `${names.length} files`;
     const what = names.length === 1 ? 'the file' : 'the files';
+    // Before anything is read: can the tab hold these data?
+    const verdict = await memoryVerdict(chosen.map(fileSource), label);
+    if (verdict && !verdict.fits) return;
     let files;
     try {
-      files = await readFiles(fileList);
+      files = await readFiles(chosen);
     } catch (error) {
       messages.error(`Could not read ${label} from disk: ${error.message}`);
       return;
     }
-    open(files, label, what);
+    open(files, label, what, verdict);
   }
 
   async function openDemo() {

@@ -7,7 +7,8 @@
 //   import * as recipeState from '../recipe_state.js';
 //   recipeState.register('cleaning', {
 //     get: () => (enabled ? { threshold, passes } : null),  // null/undefined: step absent
-//     set: (value) => { ... },                              // null: absent, back to defaults
+//     set: (value) => { ... },                              // null: absent, back to defaults;
+//                                                           // may return a promise
 //   });
 //   recipeState.changed();  // after an edit that changes get(), so the recipe is saved
 //
@@ -42,14 +43,18 @@ export function collect() {
 
 /**
  * Hands every registered section its part of `recipe` (null when the recipe has none),
- * except the names in `skip`. Returns [{name, error}] for sections that refused.
+ * except the names in `skip`. Resolves to [{name, error}] for sections that refused. A
+ * set() may return a promise (the cleaning runs in a compute worker): the later sections
+ * wait for it, so they apply to the series it leaves; sections up to the first such
+ * promise are set synchronously.
  */
-export function apply(recipe, skip = []) {
+export async function apply(recipe, skip = []) {
   const failures = [];
   for (const [name, section] of sections) {
     if (skip.includes(name)) continue;
     try {
-      section.set(recipe[name] ?? null);
+      const done = section.set(recipe[name] ?? null);
+      if (typeof done?.then === 'function') await done;
     } catch (error) {
       failures.push({ name, error });
     }

@@ -21,6 +21,7 @@ pub mod clean;
 pub mod field;
 pub mod io;
 pub mod lagrangian;
+pub mod memory;
 pub mod modes;
 pub mod recipe;
 pub mod render;

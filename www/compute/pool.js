@@ -173,8 +173,12 @@ export function createPool({ module, size, onGiveUp }) {
       finish(job, new JobFailed(m.message, m.panic));
       return;
     }
-    // Put the rows in place.
+    // Put the rows in place (a job of one chunk keeps its arrays as they came: no copy).
     for (const [name, part] of Object.entries(m.arrays)) {
+      if (job.chunks.length === 1) {
+        job.arrays[name] = part;
+        continue;
+      }
       const width = part.length / (m.j1 - m.j0);
       job.arrays[name] ??= new part.constructor(job.rows * width);
       job.arrays[name].set(part, m.j0 * width);
@@ -209,9 +213,13 @@ export function createPool({ module, size, onGiveUp }) {
     }
     const [j0, j1] = job.chunks[chunk];
     slot.chunk = chunk;
+    // Inputs go with the job, a copy each time (a chunk may be sent again to a fresh worker).
+    const names = Object.keys(job.inputs);
+    const buffers = names.map((n) => job.inputs[n].slice().buffer);
     post(slot, {
       type: 'job', jobId: job.id, chunk, kind: job.kind, datasetId: data.id, settings: job.settings, j0, j1,
-    });
+      inputs: { names, buffers },
+    }, buffers);
   }
 
   function finish(job, error) {
@@ -246,9 +254,12 @@ export function createPool({ module, size, onGiveUp }) {
      * Runs job `kind` with `settings` (a JSON string) over `rows` rows. Resolves to
      * {arrays: {name: TypedArray (rows × width)}, info: [per-chunk info], seconds}; rejects
      * with JobCancelled or JobFailed. `onProgress({done, total, fraction, elapsed,
-     * remaining})` follows each chunk. One job at a time.
+     * remaining})` follows each chunk. One job at a time. `inputs` ({name: canonical .npz
+     * bytes}) are series the job reads instead of, or besides, the dataset (e.g. the series
+     * as read when the workers hold a cleaned copy); meant for whole-series jobs of one row,
+     * since every chunk carries its own copy.
      */
-    run({ kind, settings, rows, onProgress }) {
+    run({ kind, settings, rows, onProgress, inputs = {} }) {
       if (broken) return Promise.reject(new JobFailed(broken, false));
       if (current) return Promise.reject(new Error('a computation is already running'));
       if (!data) return Promise.reject(new Error('no dataset is loaded'));
@@ -257,7 +268,7 @@ export function createPool({ module, size, onGiveUp }) {
       for (let j = 0; j < rows; j += step) chunks.push([j, Math.min(rows, j + step)]);
       return new Promise((resolve, reject) => {
         const job = {
-          id: nextJobId++, kind, settings, rows, chunks, next: 0, doneRows: 0, doneChunks: 0,
+          id: nextJobId++, kind, settings, rows, chunks, inputs, next: 0, doneRows: 0, doneChunks: 0,
           arrays: {}, info: [], retry: [], start: performance.now(), onProgress, resolve, reject,
         };
         current = job;

@@ -5,7 +5,8 @@
 //   {type: 'init', module}                     compiled WebAssembly.Module of the core
 //   {type: 'dataset', datasetId, bytes}        canonical .npz bytes (ArrayBuffer, transferred)
 //   {type: 'auxiliary', tag, names, buffers}  extra series (canonical .npz bytes, transferred)
-//   {type: 'job', jobId, chunk, kind, datasetId, settings, j0, j1}
+//   {type: 'job', jobId, chunk, kind, datasetId, settings, j0, j1, inputs: {names, buffers}}
+//                                              inputs: series for this job only (.npz bytes)
 // Messages out:
 //   {type: 'ready'}                                  the core started (after 'init')
 //   {type: 'result', jobId, chunk, j0, j1, arrays: {name: TypedArray}, info}  (buffers transferred)
@@ -14,11 +15,27 @@
 import init, * as wasm from '../pkg/sillage.js';
 
 /**
- * Job kinds: name → (dataset, settings JSON, j0, j1) → {arrays, info}. Each returns named
- * typed arrays holding rows j0..j1 of its maps, row-major; the pool puts them in place.
- * A new kind (e.g. 'sensitivity') is one more entry calling its core function.
+ * Job kinds: name → (dataset, settings JSON, j0, j1, aux, inputs) → {arrays, info}. Each
+ * returns named typed arrays holding rows j0..j1 of its maps, row-major; the pool puts them
+ * in place. A new kind is one more entry calling its core function. `inputs` holds the
+ * job's own series by name (wasm Datasets, freed after the job).
  */
 const JOBS = {
+  /**
+   * Cleaning of the whole series (one row): settings {threshold, epsilon, passes}, numbers
+   * or the texts 'NaN', 'Infinity', '-Infinity' (JSON has no such numbers; the core names
+   * the problem). Cleans the input 'series' when given (the series as read), else the dataset.
+   */
+  clean(dataset, settings, _j0, _j1, _aux, inputs) {
+    const s = JSON.parse(settings, (_key, value) => (NON_FINITE.includes(value) ? Number(value) : value));
+    const source = inputs.series ?? dataset;
+    const r = source.cleanArrays(s.threshold, s.epsilon ?? undefined, s.passes);
+    return { arrays: { u: r.u, v: r.v, gaps: r.gaps }, info: JSON.parse(r.report) };
+  },
+  /** POD, DMD or SPOD of the dataset (one row); settings {method, rank?}; the bytes of it. */
+  modes(dataset, settings) {
+    return { arrays: { modes: dataset.decomposeBytes(settings) }, info: null };
+  },
   ftle(dataset, settings, j0, j1) {
     const r = dataset.ftleRows(settings, j0, j1);
     return { arrays: { ftle: r.ftle, tau: r.tau, flag: r.flag }, info: JSON.parse(r.info) };
@@ -43,6 +60,9 @@ const JOBS = {
     return { arrays: {}, info: null };
   },
 };
+
+/** How settings write numbers JSON cannot hold. */
+const NON_FINITE = ['NaN', 'Infinity', '-Infinity'];
 
 let dataset = null;
 let datasetId = null;
@@ -98,13 +118,19 @@ async function handle(m) {
       const run = JOBS[kind];
       if (!run) return fail(`unknown job kind '${kind}'`);
       if (!dataset || datasetId !== m.datasetId) return fail('the worker does not hold the dataset of this job');
+      const inputs = {};
       try {
-        const { arrays, info } = run(dataset, settings, j0, j1, aux);
+        (m.inputs?.names ?? []).forEach((name, i) => {
+          inputs[name] = new wasm.Dataset([`${name}.npz`], [new Uint8Array(m.inputs.buffers[i])]);
+        });
+        const { arrays, info } = run(dataset, settings, j0, j1, aux, inputs);
         const buffers = Object.values(arrays).map((a) => a.buffer);
         self.postMessage({ type: 'result', jobId, chunk, j0, j1, arrays, info }, buffers);
       } catch (error) {
         const d = describe(error);
         fail(d.message, d.panic);
+      } finally {
+        if (!spent) for (const d of Object.values(inputs)) d.free();
       }
       return;
     }

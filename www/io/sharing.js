@@ -147,7 +147,7 @@ export function setupSharing(page) {
       return 'reread';
     }
     if (s.dataset) {
-      report(recipeState.apply(recipe, ['reading']));
+      recipeState.apply(recipe, ['reading']).then(report);
       scheduleSave();
       return 'applied';
     }
@@ -187,7 +187,7 @@ export function setupSharing(page) {
     if (pending) {
       const p = pending;
       pending = null;
-      report(recipeState.apply(p.recipe, ['reading']));
+      recipeState.apply(p.recipe, ['reading']).then(report);
       if (p.origin === 'storage') {
         messages.info(source === 'demo'
           ? 'Your settings from the last visit were restored, and the demo field was loaded again.'

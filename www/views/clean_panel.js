@@ -1,9 +1,14 @@
 // The cleaning card: the core's normalized median test and gap filling (`sillage clean`)
-// on the loaded series. The cleaned copy becomes the working series; the raw one is kept so
-// that "Undo cleaning" brings it back. The report's figures and warning come from the core.
+// on the loaded series, run in a compute worker (job kind 'clean') so the page stays
+// responsive; the worker sends back the cleaned velocities and the page's core puts them in
+// a copy of the series (`Dataset.withVelocity`), the same series a cleaning in the page
+// would give. The cleaned copy becomes the working series; the raw one is kept so that
+// "Undo cleaning" brings it back. The report's figures and warning come from the core.
 // The card owns the recipe's `cleaning` step: the options of the cleaning in effect (absent
 // when the working series is the one as read); a recipe that says to clean cleans at once.
 import * as recipeState from '../recipe_state.js';
+import { JobCancelled, JobFailed } from '../compute/pool.js';
+import { createJobProgress } from './job_progress.js';
 import { showWarnings } from './transport_panel.js';
 
 const $ = (id) => document.getElementById(id);
@@ -14,8 +19,15 @@ function numberOrNull(text) {
   return t === '' ? null : Number(t);
 }
 
+/** Settings as JSON; numbers JSON cannot hold travel as text (compute/worker.js reads them). */
+function settingsJson(settings) {
+  return JSON.stringify(settings, (_key, value) => (
+    typeof value === 'number' && !Number.isFinite(value) ? String(value) : value));
+}
+
 export function createCleanPanel(ctx) {
-  const { core, store, messages } = ctx;
+  const { core, store, messages, pool } = ctx;
+  const progress = createJobProgress('clean', { core, pool });
   const form = $('clean-form');
   const threshold = $('cl-threshold');
   const passes = $('cl-passes');
@@ -68,17 +80,36 @@ export function createCleanPanel(ctx) {
   });
 
   /**
-   * Cleans the series as read with the options in the inputs (synchronous). Throws the
-   * core's reason; the working series stays as it was then.
+   * Cleans the series as read with the options in the inputs, in a compute worker. Rejects
+   * with the core's reason (or JobCancelled); the working series stays as it was then.
    */
-  function cleanNow() {
-    const { dataset } = store.get();
-    // Cleaning always starts from the series as read, so options do not compound.
+  async function cleanNow() {
+    const { dataset, datasetId } = store.get();
+    // Cleaning always starts from the series as read, so options do not compound. The
+    // workers hold the working series: the series as read goes with the job when the
+    // working one is a cleaned copy.
     const source = raw ?? dataset;
     const th = numberOrNull(threshold.value) ?? Number.NaN;
     const eps = numberOrNull(epsilon.value);
     const n = Number(passes.value.trim() || Number.NaN);
-    const out = source.clean(th, eps, n);
+    store.set({ running: true, playing: false });
+    setStatus('running');
+    progress.start('Cleaning the series');
+    let job;
+    try {
+      job = await pool.run({
+        kind: 'clean',
+        settings: settingsJson({ threshold: th, epsilon: eps, passes: n }),
+        rows: 1,
+        inputs: raw ? { series: raw.canonicalNpz() } : {},
+      });
+    } finally {
+      progress.stop();
+      store.set({ running: false });
+    }
+    if (store.get().datasetId !== datasetId) throw new JobCancelled();
+    const cleaned = source.withVelocity(job.arrays.u, job.arrays.v, job.arrays.gaps);
+    const out = { dataset: cleaned, report: job.info[0] };
     const previous = raw ? dataset : null;
     raw = source;
     expected = out.dataset;
@@ -91,6 +122,22 @@ export function createCleanPanel(ctx) {
     setStatus('done');
     sync();
     recipeState.changed();
+  }
+
+  /** Says why a cleaning did not happen; the working series is unchanged. */
+  function failed(error) {
+    if (error instanceof JobCancelled) {
+      messages.info('The cleaning was cancelled. The working series is as it was.');
+      setStatus('cancelled');
+    } else if (error instanceof JobFailed && error.panic) {
+      messages.error('The analysis core stopped on an internal error in a compute worker:\n'
+        + `${error.message}\nThat worker was restarted; the working series is as it was.`);
+      setStatus('failed');
+    } else {
+      messages.error(ctx.describeFailure(error, 'clean the series'));
+      setStatus('failed');
+    }
+    sync();
   }
 
   function undoNow() {
@@ -113,19 +160,8 @@ export function createCleanPanel(ctx) {
     e.preventDefault();
     const { dataset, running } = store.get();
     if (!dataset || running) return;
-    messages.info('Cleaning the series…');
-    setStatus('running');
-    // Let the message paint before the (synchronous) core call.
-    requestAnimationFrame(() => setTimeout(() => {
-      try {
-        cleanNow();
-        messages.clear();
-      } catch (error) {
-        messages.error(ctx.describeFailure(error, 'clean the series'));
-        setStatus('failed');
-        sync();
-      }
-    }, 0));
+    messages.clear();
+    cleanNow().catch(failed);
   });
 
   undo.addEventListener('click', () => {
@@ -153,7 +189,11 @@ export function createCleanPanel(ctx) {
         ...(value.epsilon == null ? {} : { epsilon: value.epsilon }) };
       if (raw && JSON.stringify(want) === JSON.stringify(applied)) return; // cleaned like that already
       if (running) throw new Error('a computation is running; clean again once it has finished');
-      cleanNow();
+      // The recipe's later steps wait for this (recipe_state.apply awaits it).
+      return cleanNow().catch((error) => {
+        failed(error);
+        throw error;
+      });
     },
   });
 

@@ -2,17 +2,22 @@
 // (energy spectrum with the cumulative curve; eigenvalues with the unit circle and
 // amplitude against frequency; SPOD spectrum) under the map, and one picked mode: its shape
 // on the field map, its temporal coefficients, and "add to f / g", which appends its
-// selection term to the sensitivity card's inputs. Every number comes from the core.
+// selection term to the sensitivity card's inputs. Every number comes from the core; the
+// decomposition itself is computed in a compute worker (job kind 'modes') and arrives as
+// bytes that the page's core reads back bit for bit (`Dataset.modesFromBytes`).
 // The card owns the recipe's `modes` step (method, rank): present once a decomposition was
 // computed or a recipe named one; applying a recipe fills the inputs but computes nothing.
 import * as recipeState from '../recipe_state.js';
+import { JobCancelled, JobFailed } from '../compute/pool.js';
 import { drawChart } from './charts.js';
+import { createJobProgress } from './job_progress.js';
 import { showWarnings } from './transport_panel.js';
 
 const $ = (id) => document.getElementById(id);
 
 export function createModesPanel(ctx, sensitivity) {
-  const { core, store, messages, resultViews } = ctx;
+  const { core, store, messages, resultViews, pool } = ctx;
+  const progress = createJobProgress('modes', { core, pool });
   const form = $('modes-form');
   const method = $('md-method');
   const rank = $('md-rank');
@@ -143,32 +148,53 @@ export function createModesPanel(ctx, sensitivity) {
       return;
     }
     const request = readStep();
-    messages.info(`Computing the ${method.value.toUpperCase()}…`);
+    compute(request);
+  });
+
+  /** Computes the decomposition in a worker; on failure the earlier one stays. */
+  async function compute(request) {
+    const { dataset, datasetId } = store.get();
+    messages.clear();
+    store.set({ running: true, playing: false });
     setStatus('running');
-    requestAnimationFrame(() => setTimeout(() => {
-      try {
-        const next = dataset.decompose(request);
-        drop();
-        modes = next;
-        overview = modes.overview();
-        showWarnings(warnings, []);
-        $('modes-summary').textContent = overview.text;
-        kInput.max = String(modes.count);
-        $('md-k-label').textContent = overview.pick_word === 'frequency' ? 'Frequency bin' : 'Mode';
-        pick.disabled = false;
-        view.hidden = false;
-        messages.clear();
-        step = request;
-        recipeState.changed();
-        choose(1);
-        setStatus('done');
-      } catch (error) {
-        messages.clear();
+    progress.start(`Computing the ${request.method.toUpperCase()}`);
+    let next = null;
+    try {
+      const job = await pool.run({ kind: 'modes', settings: JSON.stringify(request), rows: 1 });
+      if (store.get().datasetId !== datasetId) throw new JobCancelled();
+      next = dataset.modesFromBytes(job.arrays.modes);
+      const nextOverview = next.overview();
+      drop();
+      modes = next;
+      overview = nextOverview;
+      showWarnings(warnings, []);
+      $('modes-summary').textContent = overview.text;
+      kInput.max = String(modes.count);
+      $('md-k-label').textContent = overview.pick_word === 'frequency' ? 'Frequency bin' : 'Mode';
+      pick.disabled = false;
+      view.hidden = false;
+      step = request;
+      recipeState.changed();
+      choose(1);
+      setStatus('done');
+    } catch (error) {
+      if (next && next !== modes) next.free();
+      if (error instanceof JobCancelled) {
+        messages.info('The modes computation was cancelled. Any earlier result is still shown.');
+        setStatus('cancelled');
+      } else if (error instanceof JobFailed && error.panic) {
+        messages.error('The analysis core stopped on an internal error in a compute worker:\n'
+          + `${error.message}\nThat worker was restarted; any earlier result is still shown.`);
+        setStatus('failed');
+      } else {
         showWarnings(warnings, [{ level: 'refuse', code: 'core_error', text: error.message }]);
         setStatus('failed');
       }
-    }, 0));
-  });
+    } finally {
+      progress.stop();
+      store.set({ running: false });
+    }
+  }
 
   kInput.addEventListener('change', () => choose(kInput.value));
   // Enter picks the mode (instead of submitting the form, which would compute again).

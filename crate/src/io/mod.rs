@@ -29,6 +29,7 @@ mod npy_header;
 mod npz;
 #[cfg(not(target_arch = "wasm32"))]
 mod paths;
+pub mod probe;
 mod text;
 mod vti;
 

@@ -24,4 +24,6 @@ pub enum ModesError {
     Syntax { text: String, at: usize, reason: String },
     #[error("selection: {0}")]
     Selection(String),
+    #[error("the decomposition sent by the compute worker cannot be read: {0}")]
+    Transfer(String),
 }

@@ -23,6 +23,7 @@ pub mod reduced;
 pub mod selection;
 pub mod snapshots;
 pub mod spod;
+pub mod transfer;
 
 pub use dmd::{dmd, Dmd, DmdOptions, DmdVariant};
 pub use error::ModesError;

@@ -6,8 +6,15 @@ use super::js_error;
 use super::Dataset;
 use crate::clean::{clean, CleanOptions, CleanReport, MedianTest};
 use crate::render::format::{format_count, format_sig};
+use js_sys::{Float32Array, Object, Reflect, Uint8Array};
 use serde::Serialize;
 use wasm_bindgen::prelude::*;
+
+fn set(obj: &Object, key: &str, value: &JsValue) -> Result<(), JsError> {
+    Reflect::set(obj, &JsValue::from_str(key), value)
+        .map(|_| ())
+        .map_err(|_| JsError::new(&format!("cannot set '{key}' on the result object")))
+}
 
 /// The outcome of a cleaning: the cleaned dataset (taken once) and the report.
 #[wasm_bindgen]
@@ -113,6 +120,52 @@ impl Dataset {
         let unit = self.series().units().velocity_label();
         let json = serde_json::to_string(&summary(&report, &unit)).map_err(js_error)?;
         Ok(Cleaning { dataset: Some(self.derived(cleaned)), report: json })
+    }
+
+    /// The cleaning of [`Dataset::clean`] as plain arrays, for a compute worker to send to
+    /// the page: `{u, v: Float32Array (nt, ny, nx), gaps: Uint8Array (nt, ny, nx; empty when
+    /// none is left), report: the report's JSON}`.
+    #[wasm_bindgen(js_name = cleanArrays)]
+    pub fn clean_arrays(
+        &self,
+        threshold: f64,
+        epsilon: Option<f64>,
+        passes: usize,
+    ) -> Result<Object, JsError> {
+        let mut done = self.clean(threshold, epsilon, passes)?;
+        let cleaned = done.take_dataset()?;
+        let s = cleaned.series();
+        let gaps: Vec<u8> = s.gaps().map_or(Vec::new(), |g| g.iter().map(|&b| b as u8).collect());
+        let out = Object::new();
+        set(&out, "u", &Float32Array::from(s.u()).into())?;
+        set(&out, "v", &Float32Array::from(s.v()).into())?;
+        set(&out, "gaps", &Uint8Array::from(gaps.as_slice()).into())?;
+        set(&out, "report", &JsValue::from_str(&done.report))?;
+        Ok(out)
+    }
+
+    /// This series with the velocities and gaps of a cleaning done by a worker
+    /// ([`Dataset::clean_arrays`] on its copy of this series): the same series as
+    /// [`Dataset::clean`] gives here. `gaps` empty means none.
+    #[wasm_bindgen(js_name = withVelocity)]
+    pub fn with_velocity(
+        &self,
+        u: Vec<f32>,
+        v: Vec<f32>,
+        gaps: Vec<u8>,
+    ) -> Result<Dataset, JsError> {
+        let n = self.series().u().len();
+        if u.len() != n || v.len() != n || !(gaps.is_empty() || gaps.len() == n) {
+            return Err(JsError::new(&format!(
+                "the cleaned series does not fit this one: {} values of u, {} of v and {} gap \
+                 flags for {n} vectors",
+                u.len(),
+                v.len(),
+                gaps.len()
+            )));
+        }
+        let gaps = (!gaps.is_empty()).then(|| gaps.iter().map(|&g| g != 0).collect());
+        Ok(self.derived(self.series().with_velocity(u, v, gaps)))
     }
 
     /// Missing vectors over all snapshots (modes need 0: clean first).

@@ -13,6 +13,7 @@ mod clean;
 mod dataset;
 mod display;
 mod export;
+mod memory;
 mod modes;
 mod panic;
 mod recipe;
@@ -23,6 +24,7 @@ pub use clean::{clean_defaults, Cleaning};
 pub use dataset::Dataset;
 pub use display::{colormap_rgba, format_number, mask_color, quantities, ticks};
 pub use export::is_reduced_model;
+pub use memory::memory_estimate;
 pub use modes::Modes;
 pub use panic::take_panic_message;
 pub use recipe::{

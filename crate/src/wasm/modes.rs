@@ -7,6 +7,7 @@ use super::Dataset;
 use crate::field::{Grid, Units};
 use crate::io::{MapFormat, ScalarMap};
 use crate::modes::overview::{decompose, Component, Decomposition, ModesRequest};
+use crate::modes::transfer;
 use crate::render::sensitivity::{centred_range, magnitude_range};
 use crate::render::{mask_rgba, paint_rgba, ColorRange, Colormap, ColormapKind};
 use wasm_bindgen::prelude::*;
@@ -27,16 +28,11 @@ fn component(name: &str) -> Result<Component, JsError> {
     name.parse().map_err(js_error)
 }
 
-#[wasm_bindgen]
 impl Dataset {
-    /// Decomposes the series as `sillage modes` does; `request` is JSON `{method: "pod" |
-    /// "dmd" | "spod", rank?}`. Series with missing vectors are refused (clean first).
-    pub fn decompose(&self, request: &str) -> Result<Modes, JsError> {
-        let req: ModesRequest = serde_json::from_str(request)
-            .map_err(|e| JsError::new(&format!("the modes settings are not valid: {e}")))?;
+    /// The page's view of a decomposition of this series.
+    fn modes_of(&self, inner: Decomposition) -> Modes {
         let s = self.series();
-        let inner = decompose(s, &req).map_err(js_error)?;
-        Ok(Modes {
+        Modes {
             inner,
             units: s.units(),
             times: s.times().to_vec(),
@@ -44,7 +40,38 @@ impl Dataset {
             ny: s.ny(),
             grid: *s.grid(),
             valid: s.mask().iter().map(|&m| !m).collect(),
-        })
+        }
+    }
+}
+
+fn request(json: &str) -> Result<ModesRequest, JsError> {
+    serde_json::from_str(json)
+        .map_err(|e| JsError::new(&format!("the modes settings are not valid: {e}")))
+}
+
+#[wasm_bindgen]
+impl Dataset {
+    /// Decomposes the series as `sillage modes` does; `request` is JSON `{method: "pod" |
+    /// "dmd" | "spod", rank?}`. Series with missing vectors are refused (clean first).
+    pub fn decompose(&self, request_json: &str) -> Result<Modes, JsError> {
+        let inner = decompose(self.series(), &request(request_json)?).map_err(js_error)?;
+        Ok(self.modes_of(inner))
+    }
+
+    /// The same decomposition as [`Dataset::decompose`], as bytes for the page (a compute
+    /// worker's job; [`crate::modes::transfer`]).
+    #[wasm_bindgen(js_name = decomposeBytes)]
+    pub fn decompose_bytes(&self, request_json: &str) -> Result<Vec<u8>, JsError> {
+        let inner = decompose(self.series(), &request(request_json)?).map_err(js_error)?;
+        Ok(transfer::encode(&inner))
+    }
+
+    /// A decomposition of this series computed by a worker ([`Dataset::decompose_bytes`] on
+    /// its copy of the series): the same numbers, bit for bit.
+    #[wasm_bindgen(js_name = modesFromBytes)]
+    pub fn modes_from_bytes(&self, bytes: &[u8]) -> Result<Modes, JsError> {
+        let inner = transfer::decode(bytes, self.series()).map_err(js_error)?;
+        Ok(self.modes_of(inner))
     }
 }
 
