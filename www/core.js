@@ -102,8 +102,19 @@ class Dataset {
     }
   }
   /**
-   * This series with the velocities and gap flags of a cleaning done in a compute worker
-   * (`cleanArrays` there): u, v Float32Array, gaps Uint8Array (empty: none). A new Dataset.
+   * ε of a cleaning with these options (ε null = automatic, resolved on the whole series), in
+   * the velocity unit; throws the core's reason for options it refuses. Workers cleaning
+   * ranges of snapshots all get this value (`cleanSnapshots` there).
+   */
+  cleanEpsilon(threshold, epsilon, passes) {
+    return call(() => this.#inner.cleanEpsilon(threshold, epsilon ?? undefined, passes));
+  }
+  /** The report {outliers, gaps, …, text, warning} of a cleaning from its ranges' reports, in order. */
+  cleanSummary(reports) { return JSON.parse(call(() => this.#inner.cleanSummary(JSON.stringify(reports)))); }
+  /**
+   * This series with the velocities and gap flags of a cleaning done in compute workers
+   * (`cleanSnapshots` there, ranges joined): u, v Float32Array, gaps Uint8Array (empty or
+   * all zero: none). A new Dataset.
    */
   withVelocity(u, v, gaps) {
     return new Dataset(call(() => this.#inner.withVelocity(u, v, gaps)), this.names);

@@ -166,3 +166,26 @@ fn clean_data_is_not_harmed() {
     assert!(report.warning().is_none());
     assert!(after <= before * 1.02, "cleaning made clean data worse: {before} -> {after}");
 }
+
+/// Snapshot ranges cleaned apart (as the page's workers do) and joined give the cleaning of
+/// the whole series bit for bit, report included, with ε resolved once on the whole series.
+#[test]
+fn snapshot_ranges_join_into_the_whole_cleaning() {
+    let s = synthetic(0.08);
+    let opts = CleanOptions { test: MedianTest { threshold: 2.0, epsilon: None }, passes: 3 };
+    let (whole, report) = clean(&s.series, &opts);
+    let eps = opts.test.resolve_epsilon(&s.series);
+    let parts: Vec<_> = [0..3, 3..4, 4..8]
+        .into_iter()
+        .map(|r| sillage::clean::clean_snapshots(&s.series, &opts, eps, r))
+        .collect();
+    let join = |f: fn(&sillage::clean::CleanedSnapshots) -> &[f32]| -> Vec<f32> {
+        parts.iter().flat_map(|p| f(p).iter().copied()).collect()
+    };
+    assert_eq!(join(|p| &p.u), whole.u());
+    assert_eq!(join(|p| &p.v), whole.v());
+    assert!(parts.iter().all(|p| p.gaps.iter().all(|&g| !g)) && whole.gaps().is_none());
+    let merged = CleanReport::merge(parts.into_iter().map(|p| p.report).collect()).unwrap();
+    assert_eq!(merged, report);
+    assert!(report.total_outliers() > 100, "{} outliers: not a test", report.total_outliers());
+}

@@ -183,7 +183,7 @@ export function createPool({ module, size, onGiveUp }) {
       job.arrays[name] ??= new part.constructor(job.rows * width);
       job.arrays[name].set(part, m.j0 * width);
     }
-    job.info.push(m.info);
+    job.info[m.chunk] = m.info; // in chunk order, whatever order the chunks end in
     job.doneRows += m.j1 - m.j0;
     job.doneChunks += 1;
     const elapsed = (performance.now() - job.start) / 1000;
@@ -252,12 +252,11 @@ export function createPool({ module, size, onGiveUp }) {
     get broken() { return broken; },
     /**
      * Runs job `kind` with `settings` (a JSON string) over `rows` rows. Resolves to
-     * {arrays: {name: TypedArray (rows × width)}, info: [per-chunk info], seconds}; rejects
+     * {arrays: {name: TypedArray (rows × width)}, info: [per-chunk info, in chunk order], seconds}; rejects
      * with JobCancelled or JobFailed. `onProgress({done, total, fraction, elapsed,
      * remaining})` follows each chunk. One job at a time. `inputs` ({name: canonical .npz
      * bytes}) are series the job reads instead of, or besides, the dataset (e.g. the series
-     * as read when the workers hold a cleaned copy); meant for whole-series jobs of one row,
-     * since every chunk carries its own copy.
+     * as read when the workers hold a cleaned copy); every chunk carries its own copy.
      */
     run({ kind, settings, rows, onProgress, inputs = {} }) {
       if (broken) return Promise.reject(new JobFailed(broken, false));

@@ -22,14 +22,16 @@ import init, * as wasm from '../pkg/sillage.js';
  */
 const JOBS = {
   /**
-   * Cleaning of the whole series (one row): settings {threshold, epsilon, passes}, numbers
-   * or the texts 'NaN', 'Infinity', '-Infinity' (JSON has no such numbers; the core names
-   * the problem). Cleans the input 'series' when given (the series as read), else the dataset.
+   * Cleaning of snapshots j0..j1 (the rows of this job are snapshots): settings {threshold,
+   * epsilon, passes}, ε resolved on the whole series by the page (so ranges join into the
+   * cleaning of the whole series); numbers or the texts 'NaN', 'Infinity', '-Infinity'
+   * (JSON has no such numbers; the core names the problem). Cleans the input 'series' when
+   * given (the series as read), else the dataset.
    */
-  clean(dataset, settings, _j0, _j1, _aux, inputs) {
+  clean(dataset, settings, j0, j1, _aux, inputs) {
     const s = JSON.parse(settings, (_key, value) => (NON_FINITE.includes(value) ? Number(value) : value));
     const source = inputs.series ?? dataset;
-    const r = source.cleanArrays(s.threshold, s.epsilon ?? undefined, s.passes);
+    const r = source.cleanSnapshots(s.threshold, s.epsilon, s.passes, j0, j1);
     return { arrays: { u: r.u, v: r.v, gaps: r.gaps }, info: JSON.parse(r.report) };
   },
   /** POD, DMD or SPOD of the dataset (one row); settings {method, rank?}; the bytes of it. */

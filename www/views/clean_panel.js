@@ -1,8 +1,9 @@
 // The cleaning card: the core's normalized median test and gap filling (`sillage clean`)
-// on the loaded series, run in a compute worker (job kind 'clean') so the page stays
-// responsive; the worker sends back the cleaned velocities and the page's core puts them in
-// a copy of the series (`Dataset.withVelocity`), the same series a cleaning in the page
-// would give. The cleaned copy becomes the working series; the raw one is kept so that
+// on the loaded series, run in the compute workers (job kind 'clean', ranges of snapshots
+// with ε resolved once on the whole series) so the page stays responsive and the bar shows
+// progress and time left; the workers send back the cleaned velocities and the page's core
+// puts them in a copy of the series (`Dataset.withVelocity`) and joins the reports
+// (`Dataset.cleanSummary`): the same series and report a cleaning in the page would give. The cleaned copy becomes the working series; the raw one is kept so that
 // "Undo cleaning" brings it back. The report's figures and warning come from the core.
 // The card owns the recipe's `cleaning` step: the options of the cleaning in effect (absent
 // when the working series is the one as read); a recipe that says to clean cleans at once.
@@ -92,6 +93,9 @@ export function createCleanPanel(ctx) {
     const th = numberOrNull(threshold.value) ?? Number.NaN;
     const eps = numberOrNull(epsilon.value);
     const n = Number(passes.value.trim() || Number.NaN);
+    // ε once for the whole series (the core checks the options here), then ranges of
+    // snapshots on all workers: each snapshot is cleaned on its own.
+    const resolved = source.cleanEpsilon(th, eps, n);
     store.set({ running: true, playing: false });
     setStatus('running');
     progress.start('Cleaning the series');
@@ -99,9 +103,10 @@ export function createCleanPanel(ctx) {
     try {
       job = await pool.run({
         kind: 'clean',
-        settings: settingsJson({ threshold: th, epsilon: eps, passes: n }),
-        rows: 1,
+        settings: settingsJson({ threshold: th, epsilon: resolved, passes: n }),
+        rows: source.nt,
         inputs: raw ? { series: raw.canonicalNpz() } : {},
+        onProgress: (p) => progress.update(p),
       });
     } finally {
       progress.stop();
@@ -109,7 +114,7 @@ export function createCleanPanel(ctx) {
     }
     if (store.get().datasetId !== datasetId) throw new JobCancelled();
     const cleaned = source.withVelocity(job.arrays.u, job.arrays.v, job.arrays.gaps);
-    const out = { dataset: cleaned, report: job.info[0] };
+    const out = { dataset: cleaned, report: source.cleanSummary(job.info) };
     const previous = raw ? dataset : null;
     raw = source;
     expected = out.dataset;

@@ -1,7 +1,9 @@
-// The progress line of a whole-series job in the worker pool (cleaning, modes): the job is
-// one chunk, so the pool reports nothing until it ends; the bar is indeterminate and the
-// text counts the seconds. It appears only for jobs longer than `delay` ms; its Cancel
-// button stops the job (pool.cancel: the worker is ended and a fresh one started).
+// The progress line of a job in the worker pool (cleaning, modes). A job of one chunk (modes)
+// reports nothing until it ends: the bar is indeterminate and the text counts the seconds.
+// A job of many chunks (cleaning: ranges of snapshots) calls `update` as chunks end: the bar
+// then shows the fraction done and the text the time left. It appears only for jobs longer
+// than `delay` ms; its Cancel button stops the job (pool.cancel: the workers are ended and
+// fresh ones started).
 
 const $ = (id) => document.getElementById(id);
 
@@ -11,12 +13,14 @@ export function createJobProgress(prefix, { core, pool, delay = 300 }) {
   const bar = $(`${prefix}-progress-bar`);
   const text = $(`${prefix}-progress-text`);
   let showTimer = 0;
+  let label = '';
   let tickTimer = 0;
   $(`${prefix}-cancel`).addEventListener('click', () => pool.cancel());
 
   return {
     /** Shows `label` (e.g. 'Cleaning') with the seconds since now, after the delay. */
-    start(label) {
+    start(name) {
+      label = name;
       const t0 = performance.now();
       bar.removeAttribute('value'); // indeterminate
       text.textContent = `${label}…`;
@@ -27,6 +31,14 @@ export function createJobProgress(prefix, { core, pool, delay = 300 }) {
         const seconds = (performance.now() - t0) / 1000;
         text.textContent = `${label}… ${core.formatNumber(seconds, 2)} s`;
       }, 1000);
+    },
+    /** From the pool's onProgress: {fraction, remaining (s)}; the ticks stop counting. */
+    update({ fraction, remaining }) {
+      clearInterval(tickTimer);
+      bar.max = 1;
+      bar.value = fraction;
+      const left = Number.isFinite(remaining) ? `, about ${core.formatNumber(remaining, 2)} s left` : '';
+      text.textContent = `${label}… ${core.formatNumber(100 * fraction, 3)} %${left}`;
     },
     stop() {
       clearTimeout(showTimer);

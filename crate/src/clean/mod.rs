@@ -33,7 +33,7 @@ impl Default for CleanOptions {
 }
 
 /// Why a vector was replaced.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Reason {
     /// Flagged by the normalized median test.
@@ -43,7 +43,7 @@ pub enum Reason {
 }
 
 /// One replaced vector.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, serde::Deserialize)]
 pub struct Replaced {
     pub snapshot: usize,
     pub i: usize,
@@ -54,7 +54,7 @@ pub struct Replaced {
 }
 
 /// What [`clean`] changed, for the user and for later steps.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct CleanReport {
     /// The options used, with ε resolved to velocity units.
     pub threshold: f64,
@@ -104,28 +104,56 @@ impl CleanReport {
 /// times. Returns the cleaned series (no gaps left unless a whole region had no data) and
 /// the report.
 pub fn clean(series: &Series, opts: &CleanOptions) -> (Series, CleanReport) {
-    let (nx, ny, nt) = (series.nx(), series.ny(), series.nt());
-    let plane = nx * ny;
     let eps = opts.test.resolve_epsilon(series);
+    let r = clean_snapshots(series, opts, eps, 0..series.nt());
+    let gaps = r.gaps.iter().any(|&g| g).then_some(r.gaps);
+    (series.with_velocity(r.u, r.v, gaps), r.report)
+}
+
+/// Snapshots `range` of a series cleaned by [`clean`] with ε already resolved (on the
+/// whole series: [`MedianTest::resolve_epsilon`]); `gaps` holds the vectors left missing.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CleanedSnapshots {
+    pub u: Vec<f32>,
+    pub v: Vec<f32>,
+    pub gaps: Vec<bool>,
+    /// The report of these snapshots; [`CleanReport::merge`] joins consecutive ranges into
+    /// the report of the whole series.
+    pub report: CleanReport,
+}
+
+/// Cleans snapshots `range` (each snapshot is cleaned on its own, so ranges can go to
+/// different workers; with ε resolved on the whole series the results are those of
+/// [`clean`], bit for bit).
+pub fn clean_snapshots(
+    series: &Series,
+    opts: &CleanOptions,
+    eps: f64,
+    range: std::ops::Range<usize>,
+) -> CleanedSnapshots {
+    let (nx, ny) = (series.nx(), series.ny());
+    let plane = nx * ny;
+    let (k0, count) = (range.start, range.len());
     let mask = series.mask();
-    let mut u = series.u().to_vec();
-    let mut v = series.v().to_vec();
-    let mut out_gaps = vec![false; nt * plane];
+    let mut u = series.u()[k0 * plane..range.end * plane].to_vec();
+    let mut v = series.v()[k0 * plane..range.end * plane].to_vec();
+    let mut out_gaps = vec![false; count * plane];
     let mut report = CleanReport {
         threshold: opts.test.threshold,
         epsilon: eps,
-        outliers_per_snapshot: vec![0; nt],
-        gaps_per_snapshot: vec![0; nt],
+        outliers_per_snapshot: vec![0; count],
+        gaps_per_snapshot: vec![0; count],
         unfilled: 0,
         replaced: Vec::new(),
-        valid_cells: nt * (plane - series.masked_count()),
+        valid_cells: count * (plane - series.masked_count()),
         replaced_fraction: 0.0,
         passes_run: 0,
     };
     let mut passes_run = 0;
-    for k in 0..nt {
-        let range = k * plane..(k + 1) * plane;
-        let (uk, vk) = (&mut u[range.clone()], &mut v[range.clone()]);
+    for k in range {
+        let r = k - k0;
+        let cells = r * plane..(r + 1) * plane;
+        let (uk, vk) = (&mut u[cells.clone()], &mut v[cells]);
         // Missing = no usable value right now: source gaps first, then flagged outliers.
         let mut missing: Vec<bool> = match series.gaps_at(k) {
             Some(g) => g.to_vec(),
@@ -133,7 +161,7 @@ pub fn clean(series: &Series, opts: &CleanOptions) -> (Series, CleanReport) {
         };
         for (c, &m) in missing.iter().enumerate() {
             if m {
-                report.gaps_per_snapshot[k] += 1;
+                report.gaps_per_snapshot[r] += 1;
                 report.replaced.push(Replaced {
                     snapshot: k,
                     i: c % nx,
@@ -159,7 +187,7 @@ pub fn clean(series: &Series, opts: &CleanOptions) -> (Series, CleanReport) {
             for &c in &flagged {
                 missing[c] = true;
                 replaced[c] = true;
-                report.outliers_per_snapshot[k] += 1;
+                report.outliers_per_snapshot[r] += 1;
                 report.replaced.push(Replaced {
                     snapshot: k,
                     i: c % nx,
@@ -172,15 +200,33 @@ pub fn clean(series: &Series, opts: &CleanOptions) -> (Series, CleanReport) {
         }
         for (c, &m) in missing.iter().enumerate() {
             if m {
-                out_gaps[k * plane + c] = true;
+                out_gaps[r * plane + c] = true;
                 report.unfilled += 1;
             }
         }
     }
     report.passes_run = passes_run;
     report.replaced_fraction = report.replaced.len() as f64 / report.valid_cells.max(1) as f64;
-    let gaps = out_gaps.iter().any(|&g| g).then_some(out_gaps);
-    (series.with_velocity(u, v, gaps), report)
+    CleanedSnapshots { u, v, gaps: out_gaps, report }
+}
+
+impl CleanReport {
+    /// The report of consecutive snapshot ranges, in order, as one: what [`clean`] reports
+    /// for the whole series when the parts cover it. `None` for no parts.
+    pub fn merge(parts: Vec<CleanReport>) -> Option<CleanReport> {
+        let mut it = parts.into_iter();
+        let mut all = it.next()?;
+        for mut p in it {
+            all.outliers_per_snapshot.append(&mut p.outliers_per_snapshot);
+            all.gaps_per_snapshot.append(&mut p.gaps_per_snapshot);
+            all.unfilled += p.unfilled;
+            all.replaced.append(&mut p.replaced);
+            all.valid_cells += p.valid_cells;
+            all.passes_run = all.passes_run.max(p.passes_run);
+        }
+        all.replaced_fraction = all.replaced.len() as f64 / all.valid_cells.max(1) as f64;
+        Some(all)
+    }
 }
 
 /// Outliers per snapshot found by one pass of the test on the data as they are (gaps are

@@ -90,6 +90,28 @@ fn summary(r: &CleanReport, velocity_unit: &str) -> Summary {
     }
 }
 
+/// The cleaning options after the checks the page's inputs need.
+fn clean_options(
+    threshold: f64,
+    epsilon: Option<f64>,
+    passes: usize,
+) -> Result<CleanOptions, JsError> {
+    if !(threshold.is_finite() && threshold > 0.0) {
+        return Err(JsError::new(&format!(
+            "the threshold must be a positive number, not {threshold}"
+        )));
+    }
+    if let Some(e) = epsilon {
+        if !(e.is_finite() && e >= 0.0) {
+            return Err(JsError::new(&format!("ε must be zero or positive, not {e}")));
+        }
+    }
+    if passes == 0 {
+        return Err(JsError::new("at least one pass is needed"));
+    }
+    Ok(CleanOptions { test: MedianTest { threshold, epsilon }, passes })
+}
+
 #[wasm_bindgen]
 impl Dataset {
     /// Cleans the series as `sillage clean` does: outliers by the normalized median test
@@ -102,51 +124,71 @@ impl Dataset {
         epsilon: Option<f64>,
         passes: usize,
     ) -> Result<Cleaning, JsError> {
-        if !(threshold.is_finite() && threshold > 0.0) {
-            return Err(JsError::new(&format!(
-                "the threshold must be a positive number, not {threshold}"
-            )));
-        }
-        if let Some(e) = epsilon {
-            if !(e.is_finite() && e >= 0.0) {
-                return Err(JsError::new(&format!("ε must be zero or positive, not {e}")));
-            }
-        }
-        if passes == 0 {
-            return Err(JsError::new("at least one pass is needed"));
-        }
-        let opts = CleanOptions { test: MedianTest { threshold, epsilon }, passes };
+        let opts = clean_options(threshold, epsilon, passes)?;
         let (cleaned, report) = clean(self.series(), &opts);
         let unit = self.series().units().velocity_label();
         let json = serde_json::to_string(&summary(&report, &unit)).map_err(js_error)?;
         Ok(Cleaning { dataset: Some(self.derived(cleaned)), report: json })
     }
 
-    /// The cleaning of [`Dataset::clean`] as plain arrays, for a compute worker to send to
-    /// the page: `{u, v: Float32Array (nt, ny, nx), gaps: Uint8Array (nt, ny, nx; empty when
-    /// none is left), report: the report's JSON}`.
-    #[wasm_bindgen(js_name = cleanArrays)]
-    pub fn clean_arrays(
+    /// ε of a cleaning of this series with these options, in its velocity unit: `epsilon`
+    /// itself, or the automatic value from the whole series. The page resolves it once and
+    /// gives it to every worker cleaning a range of snapshots ([`Dataset::clean_snapshots`]),
+    /// so that the ranges join into [`Dataset::clean`]'s result. Checks the options.
+    #[wasm_bindgen(js_name = cleanEpsilon)]
+    pub fn clean_epsilon(
         &self,
         threshold: f64,
         epsilon: Option<f64>,
         passes: usize,
+    ) -> Result<f64, JsError> {
+        Ok(clean_options(threshold, epsilon, passes)?.test.resolve_epsilon(self.series()))
+    }
+
+    /// Snapshots `k0..k1` cleaned with a resolved `epsilon` ([`Dataset::clean_epsilon`]), for
+    /// a compute worker to send to the page: `{u, v: Float32Array, gaps: Uint8Array (all
+    /// (k1 − k0, ny, nx)), report: the range's report as JSON}`; the page joins the ranges
+    /// ([`Dataset::with_velocity`], [`Dataset::clean_summary`]).
+    #[wasm_bindgen(js_name = cleanSnapshots)]
+    pub fn clean_snapshots(
+        &self,
+        threshold: f64,
+        epsilon: f64,
+        passes: usize,
+        k0: usize,
+        k1: usize,
     ) -> Result<Object, JsError> {
-        let mut done = self.clean(threshold, epsilon, passes)?;
-        let cleaned = done.take_dataset()?;
-        let s = cleaned.series();
-        let gaps: Vec<u8> = s.gaps().map_or(Vec::new(), |g| g.iter().map(|&b| b as u8).collect());
+        let opts = clean_options(threshold, Some(epsilon), passes)?;
+        let nt = self.series().nt();
+        if !(k0 < k1 && k1 <= nt) {
+            return Err(JsError::new(&format!("snapshots {k0}..{k1} are not within 0..{nt}")));
+        }
+        let r = crate::clean::clean_snapshots(self.series(), &opts, epsilon, k0..k1);
+        let gaps: Vec<u8> = r.gaps.iter().map(|&b| b as u8).collect();
         let out = Object::new();
-        set(&out, "u", &Float32Array::from(s.u()).into())?;
-        set(&out, "v", &Float32Array::from(s.v()).into())?;
+        set(&out, "u", &Float32Array::from(r.u.as_slice()).into())?;
+        set(&out, "v", &Float32Array::from(r.v.as_slice()).into())?;
         set(&out, "gaps", &Uint8Array::from(gaps.as_slice()).into())?;
-        set(&out, "report", &JsValue::from_str(&done.report))?;
+        let report = serde_json::to_string(&r.report).map_err(js_error)?;
+        set(&out, "report", &JsValue::from_str(&report))?;
         Ok(out)
     }
 
-    /// This series with the velocities and gaps of a cleaning done by a worker
-    /// ([`Dataset::clean_arrays`] on its copy of this series): the same series as
-    /// [`Dataset::clean`] gives here. `gaps` empty means none.
+    /// The report of a cleaning done in snapshot ranges: `reports` is the JSON array of the
+    /// ranges' reports in order; the result is the summary [`Cleaning::report`] gives.
+    #[wasm_bindgen(js_name = cleanSummary)]
+    pub fn clean_summary(&self, reports: &str) -> Result<String, JsError> {
+        let parts: Vec<CleanReport> = serde_json::from_str(reports)
+            .map_err(|e| JsError::new(&format!("the cleaning reports cannot be read: {e}")))?;
+        let all =
+            CleanReport::merge(parts).ok_or_else(|| JsError::new("no cleaning report to join"))?;
+        let unit = self.series().units().velocity_label();
+        serde_json::to_string(&summary(&all, &unit)).map_err(js_error)
+    }
+
+    /// This series with the velocities and gaps of a cleaning done by workers
+    /// ([`Dataset::clean_snapshots`] on their copies of this series, joined): the same
+    /// series as [`Dataset::clean`] gives here. `gaps` empty or all zero means none.
     #[wasm_bindgen(js_name = withVelocity)]
     pub fn with_velocity(
         &self,
@@ -164,7 +206,8 @@ impl Dataset {
                 gaps.len()
             )));
         }
-        let gaps = (!gaps.is_empty()).then(|| gaps.iter().map(|&g| g != 0).collect());
+        // No flag set means no gaps, as a cleaning of the whole series reports it.
+        let gaps = gaps.iter().any(|&g| g != 0).then(|| gaps.iter().map(|&g| g != 0).collect());
         Ok(self.derived(self.series().with_velocity(u, v, gaps)))
     }
 
