@@ -14,8 +14,13 @@
 //! Run: `cargo bench -p sillage --bench modes` (SILLAGE_BENCH_DATA=path overrides the demo
 //! file). Results go to BENCHMARKS.md, section "Modes".
 
+// The same synthetic set as the native and wasm timing example.
+#[path = "../examples/modes_common/mod.rs"]
+mod modes_common;
+
 use criterion::{criterion_group, criterion_main, Criterion};
-use sillage::field::{Series, SeriesParts};
+use modes_common::synthetic;
+use sillage::field::Series;
 use sillage::io::{read_paths, ReadOptions};
 use sillage::modes::{pod, PodOptions, PodSolver, RandomizedSvd, SvdRoute};
 use std::hint::black_box;
@@ -30,44 +35,6 @@ fn demo() -> Series {
     });
     read_paths(std::slice::from_ref(&path), &ReadOptions::default())
         .unwrap_or_else(|e| panic!("cannot read the benchmark data {}: {e}", path.display()))
-}
-
-/// The synthetic set described in the module doc, computed exactly as
-/// crate/examples/modes_bench.rs does (angle sums expanded: same numbers, a second to build).
-pub fn synthetic(nx: usize, ny: usize, nt: usize) -> Series {
-    let x: Vec<f64> = (0..nx).map(|i| i as f64 / (nx - 1) as f64).collect();
-    let y: Vec<f64> = (0..ny).map(|j| j as f64 / (ny - 1) as f64).collect();
-    let t: Vec<f64> = (0..nt).map(|k| k as f64 * 0.01).collect();
-    let plane = nx * ny;
-    let (mut u, mut v) = (vec![0.0f32; nt * plane], vec![0.0f32; nt * plane]);
-    let (mut sp, mut cp, mut sq, mut cq) =
-        (vec![0.0; plane], vec![0.0; plane], vec![0.0; plane], vec![0.0; plane]);
-    for j in 0..40 {
-        let jf = j as f64;
-        let a = (-jf / 8.0).exp();
-        let (kx, ky) = (1.0 + jf, 2.0 + 0.5 * jf);
-        let om = 3.0 + 1.7 * jf;
-        let ph = 0.37 * jf;
-        for (jj, &yj) in y.iter().enumerate() {
-            for (i, &xi) in x.iter().enumerate() {
-                let p = kx * xi + ky * yj;
-                let c = jj * nx + i;
-                (sp[c], cp[c]) = p.sin_cos();
-                (sq[c], cq[c]) = (p + 0.5).sin_cos();
-            }
-        }
-        for (k, &tk) in t.iter().enumerate() {
-            let (sc, cc) = (om * tk + ph).sin_cos();
-            let (su, cu) = (a * cc, a * sc);
-            let (uk, vk) = (&mut u[k * plane..(k + 1) * plane], &mut v[k * plane..(k + 1) * plane]);
-            for c in 0..plane {
-                uk[c] += (sp[c] * su - cp[c] * cu) as f32;
-                vk[c] += (cq[c] * su + sq[c] * cu) as f32;
-            }
-        }
-    }
-    Series::from_parts(SeriesParts { x, y, t, u, v, ..Default::default() })
-        .expect("synthetic series is valid")
 }
 
 fn options(solver: PodSolver) -> PodOptions {

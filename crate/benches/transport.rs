@@ -29,8 +29,7 @@ use sillage::field::Series;
 use sillage::io::{read_paths, ReadOptions};
 use sillage::lagrangian::{
     flow_map_rows, ftle_rows, AdvectOptions, BoundaryPolicy, FlowMapRows, FtleOptions, FtleRows,
-    GradientRoute, GriddedField, Integrator, Mat2, Rect, SpaceInterp, TimeInterp, TracerGrid, Vec2,
-    VelocityField,
+    GradientRoute, GriddedField, Integrator, PerTracer, SpaceInterp, TimeInterp, TracerGrid,
 };
 use std::hint::black_box;
 use std::path::PathBuf;
@@ -70,25 +69,6 @@ fn row_ranges(grid: &TracerGrid) -> Vec<(usize, usize)> {
         .step_by(ROWS_PER_TASK)
         .map(|j0| (j0, (j0 + ROWS_PER_TASK).min(grid.ny())))
         .collect()
-}
-
-/// The same samples as the wrapped field, without telling the engine it is gridded: the
-/// engine then takes its per-tracer path (the comparison for the lockstep path).
-struct PerTracer<'f, 'a>(&'f GriddedField<'a>);
-
-impl VelocityField for PerTracer<'_, '_> {
-    fn velocity(&self, p: Vec2, t: f64) -> Option<Vec2> {
-        self.0.velocity(p, t)
-    }
-    fn velocity_gradient(&self, p: Vec2, t: f64) -> Option<(Vec2, Mat2)> {
-        self.0.velocity_gradient(p, t)
-    }
-    fn window(&self) -> Option<Rect> {
-        self.0.window()
-    }
-    fn time_range(&self) -> Option<(f64, f64)> {
-        self.0.time_range()
-    }
 }
 
 fn flow_map_serial(field: &GriddedField, grid: &TracerGrid, o: &AdvectOptions) -> FlowMapRows {

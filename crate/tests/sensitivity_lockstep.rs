@@ -10,8 +10,8 @@
 use sillage::field::{Series, SeriesParts};
 use sillage::lagrangian::analytic::{linspace, sample_series, DoubleGyre};
 use sillage::lagrangian::{
-    AdvectOptions, BoundaryPolicy, GriddedField, Integrator, Mat2, Rect, SpaceInterp, TimeInterp,
-    TracerGrid, Vec2, VelocityField,
+    AdvectOptions, BoundaryPolicy, GriddedField, Integrator, PerTracer, Rect, SpaceInterp,
+    TimeInterp, TracerGrid, VelocityField,
 };
 use sillage::sensitivity::analytic::Wobble;
 use sillage::sensitivity::{sensitivity_rows, SensitivityOptions, SensitivityRows};
@@ -45,24 +45,6 @@ fn data(times: &[f64], gaps: bool) -> Series {
         ..Default::default()
     })
     .unwrap()
-}
-
-/// The same samples with the gridded nature hidden: the per-trajectory path.
-struct PerTracer<'a>(&'a GriddedField<'a>);
-
-impl VelocityField for PerTracer<'_> {
-    fn velocity(&self, p: Vec2, t: f64) -> Option<Vec2> {
-        self.0.velocity(p, t)
-    }
-    fn velocity_gradient(&self, p: Vec2, t: f64) -> Option<(Vec2, Mat2)> {
-        self.0.velocity_gradient(p, t)
-    }
-    fn window(&self) -> Option<Rect> {
-        self.0.window()
-    }
-    fn time_range(&self) -> Option<(f64, f64)> {
-        self.0.time_range()
-    }
 }
 
 fn options(t0: f64, horizon: f64, max_step: f64) -> SensitivityOptions {

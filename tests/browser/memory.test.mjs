@@ -10,12 +10,11 @@ import assert from 'node:assert/strict';
 import { existsSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { startRecordingProxy } from './lib/proxy.mjs';
-import { startPageServer } from './lib/server.mjs';
-import { launchBrowser, foreignRequests, watchProblems, datasetShown } from './lib/launch.mjs';
+import { startDemoSite, foreignRequests, watchProblems, datasetShown } from './lib/launch.mjs';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '../..');
 
+let site;
 let proxy;
 let server;
 let browser;
@@ -39,15 +38,12 @@ const summaryValue = (page, key) => page.locator(`#summary dd[data-key="${key}"]
 before(async () => {
   assert.ok(existsSync(join(ROOT, 'www', 'pkg', 'sillage.js')),
     'www/pkg is missing: run `bash www/build.sh` first');
-  proxy = await startRecordingProxy();
-  server = await startPageServer(ROOT, ['--demo-dir', join(ROOT, 'demo-fields')]);
-  browser = await launchBrowser(proxy.port);
+  site = await startDemoSite(ROOT);
+  ({ proxy, server, browser } = site);
 });
 
 after(async () => {
-  await browser?.close();
-  await server?.close();
-  await proxy?.close();
+  await site?.close();
 });
 
 test('the estimate is shown; a file declaring a huge series is refused and the demo stays', async () => {

@@ -8,12 +8,11 @@ import assert from 'node:assert/strict';
 import { existsSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { startRecordingProxy } from './lib/proxy.mjs';
-import { startPageServer } from './lib/server.mjs';
-import { launchBrowser, foreignRequests, watchProblems, datasetShown } from './lib/launch.mjs';
+import { startDemoSite, foreignRequests, watchProblems, datasetShown } from './lib/launch.mjs';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '../..');
 
+let site;
 let proxy;
 let server;
 let browser;
@@ -65,9 +64,8 @@ async function computeModes(method, rank = '') {
 before(async () => {
   assert.ok(existsSync(join(ROOT, 'www', 'pkg', 'sillage.js')),
     'www/pkg is missing: run `bash www/build.sh` first');
-  proxy = await startRecordingProxy();
-  server = await startPageServer(ROOT, ['--demo-dir', join(ROOT, 'demo-fields')]);
-  browser = await launchBrowser(proxy.port);
+  site = await startDemoSite(ROOT);
+  ({ proxy, server, browser } = site);
   page = await browser.newPage({ viewport: { width: 1280, height: 1000 } });
   watchProblems(page, problems);
   await page.goto(server.url);
@@ -76,9 +74,7 @@ before(async () => {
 });
 
 after(async () => {
-  await browser?.close();
-  await server?.close();
-  await proxy?.close();
+  await site?.close();
 });
 
 test('cleaning and POD/DMD in workers equal the main thread\'s, bit for bit', async () => {

@@ -21,10 +21,8 @@ import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { npzArrays, npzNames } from './lib/npz.mjs';
-import { startRecordingProxy } from './lib/proxy.mjs';
-import { startPageServer } from './lib/server.mjs';
 import {
-  launchBrowser, foreignRequests, watchProblems, datasetShown, downloadOf,
+  startDemoSite, foreignRequests, watchProblems, datasetShown, downloadOf,
 } from './lib/launch.mjs';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '../..');
@@ -34,6 +32,7 @@ const TARGET = process.env.CARGO_TARGET_DIR ?? join(ROOT, 'target');
 const CLI = process.env.SILLAGE_BIN ?? join(TARGET, 'debug', 'sillage');
 const TOLERANCE = 1e-5;
 
+let site;
 let proxy;
 let server;
 let browser;
@@ -79,9 +78,8 @@ before(async () => {
   assert.ok(existsSync(CLI), `the CLI ${CLI} is missing: build it or set SILLAGE_BIN`);
   mkdirSync(ARTIFACTS, { recursive: true });
   scratch = mkdtempSync(join(tmpdir(), 'sillage-workflow-'));
-  proxy = await startRecordingProxy();
-  server = await startPageServer(ROOT, ['--demo-dir', join(ROOT, 'demo-fields')]);
-  browser = await launchBrowser(proxy.port);
+  site = await startDemoSite(ROOT);
+  ({ proxy, server, browser } = site);
   page = await browser.newPage({ viewport: { width: 1280, height: 1100 } });
   watchProblems(page, problems);
   await page.goto(server.url);
@@ -90,9 +88,7 @@ before(async () => {
 });
 
 after(async () => {
-  await browser?.close();
-  await server?.close();
-  await proxy?.close();
+  await site?.close();
   if (scratch && !process.env.KEEP) rmSync(scratch, { recursive: true, force: true });
 });
 

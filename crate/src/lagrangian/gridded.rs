@@ -571,6 +571,7 @@ mod tests {
     use super::*;
     use crate::lagrangian::analytic::{linspace, sample_series, DoubleGyre};
     use crate::lagrangian::velocity::Windowed;
+    use rand::{RngExt, SeedableRng};
 
     /// The bilinear × linear fast path ([`LinearPath`]) against the general stencil code on
     /// the same data: the same cells have data, and values and gradients agree to
@@ -596,14 +597,9 @@ mod tests {
         assert!(fast.linear.is_some(), "uniform snapshots should take the fast path");
         let mut general = fast.clone();
         general.linear = None;
-        let mut rng = 0x2545_f491_4f6c_dd1d_u64;
-        let mut uniform = || {
-            // xorshift64*: reproducible points without a dependency.
-            rng ^= rng >> 12;
-            rng ^= rng << 25;
-            rng ^= rng >> 27;
-            (rng.wrapping_mul(0x2545_f491_4f6c_dd1d) >> 11) as f64 / (1u64 << 53) as f64
-        };
+        // Reproducible points (the crate's seeded generator).
+        let mut rng = rand_pcg::Pcg64::seed_from_u64(1);
+        let mut uniform = move || rng.random::<f64>();
         let mut points: Vec<(Vec2, f64)> = (0..4000)
             .map(|_| ([2.1 * uniform() - 0.05, 1.1 * uniform() - 0.05], 4.2 * uniform() - 0.1))
             .collect();

@@ -455,6 +455,7 @@ mod tests {
     use crate::lagrangian::analytic::{linspace, sample_series, DoubleGyre};
     use crate::lagrangian::gridded::{SpaceInterp, TimeInterp};
     use crate::lagrangian::velocity::{Rect, VelocityField, Windowed};
+    use rand::{RngExt, SeedableRng};
 
     /// A blended slice samples exactly what the field samples: the same points have data,
     /// velocity and tangent right-hand side agree bit for bit (uniform snapshots, the
@@ -470,14 +471,9 @@ mod tests {
         };
         let uniform = linspace(0.0, 4.0, 17);
         let stretched: Vec<f64> = uniform.iter().map(|&t| t + 0.03 * t * (4.0 - t)).collect();
-        let mut rng = 0x2545_f491_4f6c_dd1d_u64;
-        let mut uniform01 = move || {
-            // xorshift64*: reproducible points without a dependency.
-            rng ^= rng >> 12;
-            rng ^= rng << 25;
-            rng ^= rng >> 27;
-            (rng.wrapping_mul(0x2545_f491_4f6c_dd1d) >> 11) as f64 / (1u64 << 53) as f64
-        };
+        // Reproducible points (the crate's seeded generator).
+        let mut rng = rand_pcg::Pcg64::seed_from_u64(2);
+        let mut uniform01 = move || rng.random::<f64>();
         for times in [&uniform, &stretched] {
             let s = sample_series(&cut, &linspace(0.0, 2.0, 21), &linspace(0.0, 1.0, 11), times)
                 .unwrap();

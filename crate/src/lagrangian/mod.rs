@@ -59,4 +59,4 @@ pub use sequence::{ftle_sequence, SequenceMethod, COMPOSITION_ROUTE};
 pub(crate) use slice_set::SliceSet;
 pub use system::{satellites_start, Satellites, System, Tangent, Tracer};
 pub use tableau::{Tableau, DOPRI54, RK4};
-pub use velocity::{Extended, Mat2, Rect, Vec2, VelocityField, Windowed};
+pub use velocity::{Extended, Mat2, PerTracer, Rect, Vec2, VelocityField, Windowed};

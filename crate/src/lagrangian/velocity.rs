@@ -120,6 +120,30 @@ impl<F: VelocityField> VelocityField for Windowed<F> {
     }
 }
 
+/// The samples of `F` with its gridded nature hidden ([`VelocityField::as_gridded`] stays
+/// `None`): the engine then integrates one tracer at a time instead of in lockstep over
+/// time slices. The results are the same bit for bit; this exists to compare the two paths
+/// (tests, benchmarks).
+#[derive(Debug, Clone, Copy)]
+pub struct PerTracer<F>(pub F);
+
+impl<F: VelocityField> VelocityField for PerTracer<F> {
+    #[inline]
+    fn velocity(&self, p: Vec2, t: f64) -> Option<Vec2> {
+        self.0.velocity(p, t)
+    }
+    #[inline]
+    fn velocity_gradient(&self, p: Vec2, t: f64) -> Option<(Vec2, Mat2)> {
+        self.0.velocity_gradient(p, t)
+    }
+    fn window(&self) -> Option<Rect> {
+        self.0.window()
+    }
+    fn time_range(&self) -> Option<(f64, f64)> {
+        self.0.time_range()
+    }
+}
+
 /// A field continued beyond its window by first-order Taylor extension from the nearest
 /// window point p* (the spirit of Tang, Chan & Haller 2010, Chaos 20:017502, who extend
 /// measured velocities linearly beyond the domain):

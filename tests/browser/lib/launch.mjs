@@ -1,7 +1,10 @@
-// Headless Debian Chromium for the export and share tests, with the same flags and the
+// Headless Debian Chromium for the page tests, with the same flags and the
 // same excluded browser-background hosts as ftle.test.mjs (see there and DESIGN.md,
 // "Known pitfalls"): everything the page asks of the network goes to the recording proxy.
+import { join } from 'node:path';
 import { chromium } from 'playwright-core';
+import { startRecordingProxy } from './proxy.mjs';
+import { startPageServer } from './server.mjs';
 
 export const BROWSER_BACKGROUND_HOSTS = new Set(['accounts.google.com', 'update.googleapis.com']);
 const DISABLED_FEATURES = [
@@ -19,6 +22,30 @@ export function launchBrowser(proxyPort) {
       `--proxy-server=http://127.0.0.1:${proxyPort}`,
     ],
   });
+}
+
+/**
+ * What most page tests start from: the recording proxy, the page server with the demo data
+ * (repository `root`), and Chromium going through the proxy. `close()` stops all three; a
+ * failure while starting stops what had started.
+ */
+export async function startDemoSite(root) {
+  const started = [];
+  const close = async () => {
+    for (const part of started.reverse()) await part.close();
+  };
+  try {
+    const proxy = await startRecordingProxy();
+    started.push(proxy);
+    const server = await startPageServer(root, ['--demo-dir', join(root, 'demo-fields')]);
+    started.push(server);
+    const browser = await launchBrowser(proxy.port);
+    started.push(browser);
+    return { proxy, server, browser, close };
+  } catch (error) {
+    await close();
+    throw error;
+  }
 }
 
 /** Requests that reached the proxy, without the browser's own background calls. */
