@@ -29,6 +29,7 @@ mod modes_common;
 use modes_common::synthetic;
 use sillage::field::Series;
 use sillage::modes::{pod, PodOptions, PodSolver, RandomizedSvd, SvdRoute};
+use sillage::progress::Progress;
 use std::sync::Mutex;
 
 /// Modes asked of every solver.
@@ -145,13 +146,14 @@ fn profile(series: &Series, now: impl Fn() -> f64) -> Result<Vec<(&'static str, 
     lap("mean_s", &mut phases);
     let y = layout.weighted_matrix(series, Some(&mean), 1.0 / (series.nt() as f64).sqrt());
     lap("weighted_matrix_s", &mut phases);
-    let g = linalg::gram_lower(y.as_ref());
+    let g = linalg::gram_lower(y.as_ref(), &mut Progress::silent());
     lap("gram_lower_s", &mut phases);
     let eig = g.self_adjoint_eigen(faer::Side::Lower).map_err(|e| format!("{e:?}"))?;
     lap("self_adjoint_eigen_s", &mut phases);
     let full = y.transpose() * &y;
     lap("gram_full_s", &mut phases);
-    let svd = linalg::svd_snapshot(y.as_ref(), RANK).map_err(|e| e.to_string())?;
+    let svd = linalg::svd_snapshot(y.as_ref(), RANK, &mut Progress::silent())
+        .map_err(|e| e.to_string())?;
     lap("svd_snapshot_s", &mut phases);
     let m = y.ncols();
     let check = (eig.S()[m - 1].sqrt() - svd.s[0]).abs() + (full[(0, 0)] - g[(0, 0)]).abs();

@@ -23,6 +23,7 @@ pub mod io;
 pub mod lagrangian;
 pub mod memory;
 pub mod modes;
+pub mod progress;
 pub mod recipe;
 pub mod render;
 pub mod sensitivity;

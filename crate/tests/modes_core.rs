@@ -220,3 +220,50 @@ fn spod_defaults_and_checks() {
         .unwrap_err();
     assert!(e.to_string().contains("overlap"), "{e}");
 }
+
+/// Progress of a decomposition (the page's time-left estimate): the fractions never
+/// decrease, stay in [0, 1], come in several steps, end at 1; the plan matches the work the
+/// parts advance by to 5 % (so the bar neither jumps at the end nor stalls at 100 %); the
+/// observer changes no number (the bytes the page receives are identical).
+#[test]
+fn decompositions_report_progress_and_the_same_numbers() {
+    use rand::{RngExt, SeedableRng};
+    use sillage::modes::overview::{decompose, decompose_with_progress, Method, ModesRequest};
+    use sillage::modes::transfer::encode;
+    use sillage::progress::Progress;
+    // 150 snapshots: Gram panels of 32 columns (the last one partial), rows in panels. A
+    // small seeded noise gives the series full numerical rank, as measured data have (the
+    // plan assumes it; a lower rank makes the bar jump forward, never back).
+    let clean = waves(24, 18, 150, 0.05);
+    let mut rng = rand_pcg::Pcg64::seed_from_u64(7);
+    let mut noisy = |f: &[f32]| -> Vec<f32> {
+        f.iter().map(|&x| if x == 0.0 { x } else { x + 0.01 * rng.random::<f32>() }).collect()
+    };
+    let s = Series::from_parts(SeriesParts {
+        x: clean.grid().x.coords(),
+        y: clean.grid().y.coords(),
+        t: clean.times().to_vec(),
+        u: noisy(clean.u()),
+        v: noisy(clean.v()),
+        mask: Some(clean.mask().to_vec()),
+        ..Default::default()
+    })
+    .unwrap();
+    for (method, rank, least) in
+        [(Method::Pod, None, 8), (Method::Dmd, Some(6), 6), (Method::Spod, None, 10)]
+    {
+        let req = ModesRequest { method, rank };
+        let mut seen = Vec::new();
+        let mut record = |f: f64| seen.push(f);
+        let mut progress = Progress::to(&mut record);
+        let watched = decompose_with_progress(&s, &req, &mut progress).unwrap();
+        let accounted = progress.accounted();
+        assert!((0.95..=1.05).contains(&accounted), "{method:?}: plan off: {accounted}");
+        let plain = decompose(&s, &req).unwrap();
+        assert!(encode(&watched) == encode(&plain), "{method:?}: the observer changed the result");
+        assert!(seen.len() >= least, "{method:?}: {} reports: {seen:?}", seen.len());
+        assert!(seen.windows(2).all(|w| w[0] <= w[1]), "{method:?}: {seen:?}");
+        assert!(seen.iter().all(|f| (0.0..=1.0).contains(f)), "{method:?}: {seen:?}");
+        assert_eq!(seen.last(), Some(&1.0), "{method:?}");
+    }
+}

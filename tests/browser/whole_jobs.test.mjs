@@ -1,6 +1,7 @@
 // Cleaning and modes run in a compute worker (job kinds 'clean' and 'modes'): their results
 // equal, bit for bit, what the page's own core computes on the main thread from the same
-// file (the route the page took before), and a cancelled run keeps the earlier result.
+// file (the route the page took before), a modes run shows its progress and time left, and
+// a cancelled run keeps the earlier result.
 //
 // Needs www/pkg (bash www/build.sh).
 import { test, before, after } from 'node:test';
@@ -89,6 +90,27 @@ test('cleaning and POD/DMD in workers equal the main thread\'s, bit for bit', as
   await computeModes('dmd', '12');
   r = await mainThreadReference('dmd', 12);
   assert.equal(r.page, r.reference, 'DMD overview');
+});
+
+test('a modes run reports its progress: the share done and the time left, rising', async () => {
+  // Every text the progress line shows during a POD of all modes (one core call in a
+  // worker, which reports as it goes; the line itself appears after 0.3 s, its text is
+  // kept up to date from the start).
+  await page.evaluate(() => {
+    const text = document.getElementById('modes-progress-text');
+    window.modesProgressTexts = [];
+    new MutationObserver(() => window.modesProgressTexts.push(text.textContent))
+      .observe(text, { childList: true, characterData: true, subtree: true });
+  });
+  await computeModes('pod');
+  const texts = await page.evaluate(() => window.modesProgressTexts);
+  const shares = texts
+    .map((t) => /^Computing the POD… ([\d.]+) %, about ([\d.]+) s left$/.exec(t))
+    .filter(Boolean)
+    .map((m) => Number(m[1]));
+  assert.ok(shares.length >= 5, `too few progress reports: ${JSON.stringify(texts)}`);
+  assert.ok(shares.every((f, i) => i === 0 || f >= shares[i - 1]), `not rising: ${shares}`);
+  assert.ok(shares[0] < 50 && shares.at(-1) === 100, `from ${shares[0]} % to ${shares.at(-1)} %`);
 });
 
 test('a cancelled modes run or cleaning keeps the earlier result', async () => {

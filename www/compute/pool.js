@@ -167,6 +167,13 @@ export function createPool({ module, size, onGiveUp }) {
     }
     const job = current;
     if (!job || m.jobId !== job.id) return; // a late answer to a finished or failed job
+    if (m.type === 'progress') {
+      // Part of a running chunk (a long single core call): counted as that share of its rows.
+      const [j0, j1] = job.chunks[m.chunk];
+      job.partRows[m.chunk] = m.fraction * (j1 - j0);
+      report(job);
+      return;
+    }
     slot.chunk = null;
     if (m.type === 'failed') {
       if (m.panic) replace(slot, m.message);
@@ -186,19 +193,29 @@ export function createPool({ module, size, onGiveUp }) {
     job.info[m.chunk] = m.info; // in chunk order, whatever order the chunks end in
     job.doneRows += m.j1 - m.j0;
     job.doneChunks += 1;
-    const elapsed = (performance.now() - job.start) / 1000;
-    job.onProgress?.({
-      done: job.doneRows,
-      total: job.rows,
-      fraction: job.doneRows / job.rows,
-      elapsed,
-      remaining: elapsed * (job.rows - job.doneRows) / job.doneRows,
-    });
+    delete job.partRows[m.chunk];
+    report(job);
     if (job.doneChunks === job.chunks.length) {
       finish(job, null);
       return;
     }
     dispatch(slot, job);
+  }
+
+  /**
+   * Calls the job's onProgress with the rows done, counting the reported part of chunks in
+   * flight; the time left is the elapsed time scaled by the part still to do.
+   */
+  function report(job) {
+    const done = job.doneRows + Object.values(job.partRows).reduce((a, b) => a + b, 0);
+    const elapsed = (performance.now() - job.start) / 1000;
+    job.onProgress?.({
+      done,
+      total: job.rows,
+      fraction: done / job.rows,
+      elapsed,
+      remaining: done > 0 ? elapsed * (job.rows - done) / done : Infinity,
+    });
   }
 
   function dispatch(slot, job) {
@@ -252,11 +269,13 @@ export function createPool({ module, size, onGiveUp }) {
     get broken() { return broken; },
     /**
      * Runs job `kind` with `settings` (a JSON string) over `rows` rows. Resolves to
-     * {arrays: {name: TypedArray (rows × width)}, info: [per-chunk info, in chunk order], seconds}; rejects
-     * with JobCancelled or JobFailed. `onProgress({done, total, fraction, elapsed,
-     * remaining})` follows each chunk. One job at a time. `inputs` ({name: canonical .npz
-     * bytes}) are series the job reads instead of, or besides, the dataset (e.g. the series
-     * as read when the workers hold a cleaned copy); every chunk carries its own copy.
+     * {arrays: {name: TypedArray (rows × width)}, info: [per-chunk info, in chunk order],
+     * seconds}; rejects with JobCancelled or JobFailed. `onProgress({done, total, fraction,
+     * elapsed, remaining})` follows each chunk, and each progress report of a chunk in
+     * flight (a job kind whose one core call reports, e.g. modes). One job at a time.
+     * `inputs` ({name: canonical .npz bytes}) are series the job reads instead of, or
+     * besides, the dataset (e.g. the series as read when the workers hold a cleaned copy);
+     * every chunk carries its own copy.
      */
     run({ kind, settings, rows, onProgress, inputs = {} }) {
       if (broken) return Promise.reject(new JobFailed(broken, false));
@@ -268,7 +287,7 @@ export function createPool({ module, size, onGiveUp }) {
       return new Promise((resolve, reject) => {
         const job = {
           id: nextJobId++, kind, settings, rows, chunks, inputs, next: 0, doneRows: 0, doneChunks: 0,
-          arrays: {}, info: [], retry: [], start: performance.now(), onProgress, resolve, reject,
+          partRows: {}, arrays: {}, info: [], retry: [], start: performance.now(), onProgress, resolve, reject,
         };
         current = job;
         for (const slot of slots) dispatch(slot, job);

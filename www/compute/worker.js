@@ -9,16 +9,18 @@
 //                                              inputs: series for this job only (.npz bytes)
 // Messages out:
 //   {type: 'ready'}                                  the core started (after 'init')
+//   {type: 'progress', jobId, chunk, fraction}       part of a chunk done (jobs that report it)
 //   {type: 'result', jobId, chunk, j0, j1, arrays: {name: TypedArray}, info}  (buffers transferred)
 //   {type: 'failed', jobId, chunk, message, panic}   panic = the core trapped; this worker is spent
 //   {type: 'fatal', message}                         init or dataset failed
 import init, * as wasm from '../pkg/sillage.js';
 
 /**
- * Job kinds: name → (dataset, settings JSON, j0, j1, aux, inputs) → {arrays, info}. Each
- * returns named typed arrays holding rows j0..j1 of its maps, row-major; the pool puts them
- * in place. A new kind is one more entry calling its core function. `inputs` holds the
- * job's own series by name (wasm Datasets, freed after the job).
+ * Job kinds: name → (dataset, settings JSON, j0, j1, aux, inputs, report) → {arrays, info}.
+ * Each returns named typed arrays holding rows j0..j1 of its maps, row-major; the pool puts
+ * them in place. A new kind is one more entry calling its core function. `inputs` holds the
+ * job's own series by name (wasm Datasets, freed after the job); `report(fraction)` tells
+ * the pool how much of a long single core call is done (the core calls it).
  */
 const JOBS = {
   /**
@@ -34,9 +36,12 @@ const JOBS = {
     const r = source.cleanSnapshots(s.threshold, s.epsilon, s.passes, j0, j1);
     return { arrays: { u: r.u, v: r.v, gaps: r.gaps }, info: JSON.parse(r.report) };
   },
-  /** POD, DMD or SPOD of the dataset (one row); settings {method, rank?}; the bytes of it. */
-  modes(dataset, settings) {
-    return { arrays: { modes: dataset.decomposeBytes(settings) }, info: null };
+  /**
+   * POD, DMD or SPOD of the dataset (one row); settings {method, rank?}; the bytes of it.
+   * One core call, which reports its progress as it goes.
+   */
+  modes(dataset, settings, _j0, _j1, _aux, _inputs, report) {
+    return { arrays: { modes: dataset.decomposeBytes(settings, report) }, info: null };
   },
   ftle(dataset, settings, j0, j1) {
     const r = dataset.ftleRows(settings, j0, j1);
@@ -125,7 +130,8 @@ async function handle(m) {
         (m.inputs?.names ?? []).forEach((name, i) => {
           inputs[name] = new wasm.Dataset([`${name}.npz`], [new Uint8Array(m.inputs.buffers[i])]);
         });
-        const { arrays, info } = run(dataset, settings, j0, j1, aux, inputs);
+        const report = (fraction) => self.postMessage({ type: 'progress', jobId, chunk, fraction });
+        const { arrays, info } = run(dataset, settings, j0, j1, aux, inputs, report);
         const buffers = Object.values(arrays).map((a) => a.buffer);
         self.postMessage({ type: 'result', jobId, chunk, j0, j1, arrays, info }, buffers);
       } catch (error) {

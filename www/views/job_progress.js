@@ -1,7 +1,7 @@
-// The progress line of a job in the worker pool (cleaning, modes). A job of one chunk (modes)
-// reports nothing until it ends: the bar is indeterminate and the text counts the seconds.
-// A job of many chunks (cleaning: ranges of snapshots) calls `update` as chunks end: the bar
-// then shows the fraction done and the text the time left. It appears only for jobs longer
+// The progress line of a job in the worker pool (cleaning, modes). Until the
+// first report the bar is indeterminate and the text counts the seconds; `update` (the
+// pool's onProgress: as chunks end, or as the core reports inside one long call, as the
+// modes do) then shows the fraction done and the time left. It appears only for jobs longer
 // than `delay` ms; its Cancel button stops the job (pool.cancel: the workers are ended and
 // fresh ones started).
 

@@ -160,7 +160,9 @@ export function createModesPanel(ctx, sensitivity) {
     progress.start(`Computing the ${request.method.toUpperCase()}`);
     let next = null;
     try {
-      const job = await pool.run({ kind: 'modes', settings: JSON.stringify(request), rows: 1 });
+      const job = await pool.run({
+        kind: 'modes', settings: JSON.stringify(request), rows: 1, onProgress: (p) => progress.update(p),
+      });
       if (store.get().datasetId !== datasetId) throw new JobCancelled();
       next = dataset.modesFromBytes(job.arrays.modes);
       const nextOverview = next.overview();

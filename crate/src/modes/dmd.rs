@@ -32,11 +32,12 @@
 //! data's signal rank fits noise (spurious damped modes); standing oscillations need time
 //! delays (not offered here).
 
-use super::linalg::{thin_svd, SvdRoute};
+use super::linalg::{svd_work, thin_svd, thin_svd_leading, SvdRoute, COPY_UNITS, OUTPUT_UNITS};
 use super::rank::RankRule;
 use super::snapshots::{fix_phase, uniform_step, SnapshotLayout};
 use super::ModesError;
 use crate::field::Series;
+use crate::progress::Progress;
 use faer::linalg::solvers::Solve;
 use faer::{c64, Mat, MatRef};
 
@@ -89,6 +90,17 @@ fn cmat(re: MatRef<'_, f64>) -> Mat<c64> {
 
 /// DMD of `series`.
 pub fn dmd(series: &Series, opts: &DmdOptions) -> Result<Dmd, ModesError> {
+    dmd_with_progress(series, opts, &mut Progress::silent())
+}
+
+/// [`dmd`], reporting its progress (the same numbers: the observer only watches). The plan
+/// counts the SVD of X0 ([`svd_work`]) and, with r = m − 1 (an upper bound), the products
+/// after it in multiply–adds, a complex one as four real ones.
+pub fn dmd_with_progress(
+    series: &Series,
+    opts: &DmdOptions,
+    progress: &mut Progress,
+) -> Result<Dmd, ModesError> {
     let layout = SnapshotLayout::new(series)?;
     let m = series.nt();
     if m < 3 {
@@ -99,11 +111,39 @@ pub fn dmd(series: &Series, opts: &DmdOptions) -> Result<Dmd, ModesError> {
     let (n, m1) = (y.nrows(), m - 1);
     let x0 = y.subcols(0, m1);
     let x1 = y.subcols(1, m1);
-    let full = thin_svd(x0, opts.route, usize::MAX)?;
-    if full.s.is_empty() {
-        return Err(ModesError::NoEnergy);
-    }
-    let r = opts.rank.pick(&full.s, n, m1)?;
+    let (nf, mf) = (n as f64, m1 as f64);
+    // After the SVD, with r modes kept: X1·V, Uᵀ·(X1VΣ⁻¹), the projected modes (real ×
+    // complex: 2 real multiply–adds each), and the amplitudes' Φ*Φ and Y*Φ (complex).
+    let after = |r: f64| [nf * mf * r, nf * r * r, 2.0 * nf * r * r];
+    let amplitude_work = |r: f64| 4.0 * nf * r * r + 2.0 * nf * (mf + 1.0) * r;
+    let after_work = |r: f64| after(r).iter().sum::<f64>() + amplitude_work(r);
+    // The SVD of X0 with the left vectors of the r modes kept, the snapshot matrix (built)
+    // and the modes scaled and reordered (and for TLS DMD: the projection and a second
+    // SVD); planned with the rank the rule will likely pick, revised once it is known.
+    let tls = opts.variant == DmdVariant::TotalLeastSquares;
+    let planned = |r: f64| {
+        let svd = svd_work(n, m1, opts.route, r as usize);
+        let tls_work = if tls { svd + 4.0 * nf * mf * mf } else { 0.0 };
+        svd + tls_work + 2.0 * OUTPUT_UNITS * nf * r + after_work(r)
+    };
+    let guess = opts.rank.guess(m1) as f64;
+    progress.plan(COPY_UNITS * nf * (mf + 1.0) + planned(guess));
+    progress.advance(COPY_UNITS * nf * (mf + 1.0));
+    let mut picked = 0;
+    let (leading, all_s) = thin_svd_leading(
+        x0,
+        opts.route,
+        |s| {
+            if s.is_empty() {
+                return Err(ModesError::NoEnergy);
+            }
+            picked = opts.rank.pick(s, n, m1)?;
+            Ok(picked)
+        },
+        progress,
+    )?;
+    let r = picked;
+    progress.revise(planned(guess), planned(r as f64));
     let (x0p, x1p);
     let (x0, x1) = match opts.variant {
         DmdVariant::Exact => (x0, x1),
@@ -117,33 +157,32 @@ pub fn dmd(series: &Series, opts: &DmdOptions) -> Result<Dmd, ModesError> {
             let p = &v * v.transpose();
             x0p = x0 * &p;
             x1p = x1 * &p;
+            progress.advance(4.0 * nf * mf * mf);
             (x0p.as_ref(), x1p.as_ref())
         }
     };
     let svd = match opts.variant {
-        DmdVariant::Exact => {
-            let mut s = full.clone();
-            s.u = s.u.subcols(0, r).to_owned();
-            s.v = s.v.subcols(0, r).to_owned();
-            s.s.truncate(r);
-            s
-        }
-        DmdVariant::TotalLeastSquares => thin_svd(x0, opts.route, r)?,
+        DmdVariant::Exact => leading,
+        DmdVariant::TotalLeastSquares => thin_svd(x0, opts.route, r, progress)?,
     };
     let r = svd.s.len();
+    let rf = r as f64;
     // X1 V Σ⁻¹ (n × r), then Ã = Uᵀ (X1 V Σ⁻¹).
     let mut x1vs = x1 * &svd.v;
     for j in 0..r {
         let inv = 1.0 / svd.s[j];
         x1vs.col_as_slice_mut(j).iter_mut().for_each(|x| *x *= inv);
     }
+    progress.advance(after(rf)[0]);
     let atilde = svd.u.transpose() * &x1vs;
+    progress.advance(after(rf)[1]);
     let eig = atilde.eigen().map_err(|_| ModesError::NoConvergence {
         what: "eigensolver of the reduced DMD operator",
     })?;
     let mu: Vec<c64> = (0..r).map(|j| eig.S()[j]).collect();
     let w = eig.U().to_owned();
     let mut phi = cmat(x1vs.as_ref()) * &w;
+    progress.advance(after(rf)[2]);
     for (j, &muj) in mu.iter().enumerate() {
         // φ = X1 V Σ⁻¹ w / μ; a μ = 0 mode (a transient gone in one step) keeps the projected
         // direction. Then unit weighted norm: the amplitude fit carries scale and phase.
@@ -155,6 +194,7 @@ pub fn dmd(series: &Series, opts: &DmdOptions) -> Result<Dmd, ModesError> {
         }
     }
     let b = amplitudes(y.as_ref(), phi.as_ref(), &mu)?;
+    progress.advance(amplitude_work(rf));
     // Back to physical modes: φ_phys = W^{-1/2} φ (unit norm in the weighted product).
     let inv_sw: Vec<f64> = layout.weights().iter().map(|w| 1.0 / w.sqrt()).collect();
     for j in 0..r {
@@ -170,10 +210,12 @@ pub fn dmd(series: &Series, opts: &DmdOptions) -> Result<Dmd, ModesError> {
         eigenvalues: order.iter().map(|&j| mu[j]).collect(),
         modes: Mat::from_fn(n, r, |i, j| phi[(i, order[j])]),
         amplitudes: order.iter().map(|&j| b[j]).collect(),
-        singular_values: full.s,
+        singular_values: all_s,
         variant: opts.variant,
     };
     out.apply_phase_convention();
+    progress.advance(2.0 * OUTPUT_UNITS * nf * rf);
+    progress.finish();
     Ok(out)
 }
 
@@ -189,7 +231,11 @@ fn amplitudes(
     let gram = phi.adjoint() * phi;
     let vv = &vand * vand.adjoint();
     let p = Mat::from_fn(r, r, |i, j| gram[(i, j)] * vv[(i, j)].conj());
-    let yphi = cmat(y.transpose()) * phi; // m × r = Y* Φ (Y real)
+    // m × r = Y* Φ; Y is real, so two real products (of Re Φ and Im Φ) instead of a complex
+    // copy of the whole data and a complex product: half the work and no n × m copy.
+    let (re, im) = (phi.map(|z| z.re), phi.map(|z| z.im));
+    let (yre, yim) = (y.transpose() * &re, y.transpose() * &im);
+    let yphi = Mat::from_fn(m, r, |k, j| c64::new(yre[(k, j)], yim[(k, j)]));
     let q = Mat::from_fn(r, 1, |j, _| {
         let mut acc = c64::new(0.0, 0.0);
         for k in 0..m {

@@ -25,13 +25,13 @@ pub mod snapshots;
 pub mod spod;
 pub mod transfer;
 
-pub use dmd::{dmd, Dmd, DmdOptions, DmdVariant};
+pub use dmd::{dmd, dmd_with_progress, Dmd, DmdOptions, DmdVariant};
 pub use error::ModesError;
 pub use linalg::{SvdRoute, ThinSvd};
-pub use pod::{pod, Pod, PodOptions, PodSolver};
+pub use pod::{pod, pod_with_progress, Pod, PodOptions, PodSolver};
 pub use randomized::RandomizedSvd;
 pub use rank::RankRule;
 pub use reduced::{ReducedModel, ReducedModelError};
 pub use selection::{SelectOptions, Selection, Term};
 pub use snapshots::{uniform_step, SnapshotLayout};
-pub use spod::{default_block, spod, Spod, SpodOptions};
+pub use spod::{default_block, spod, spod_with_progress, Spod, SpodOptions};

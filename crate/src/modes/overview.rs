@@ -9,9 +9,11 @@
 //! the command-line tool's `modes` subcommand, so the same rank gives the same numbers.
 
 use super::{
-    dmd, pod, spod, Dmd, DmdOptions, ModesError, Pod, PodOptions, RankRule, Spod, SpodOptions,
+    dmd_with_progress, pod_with_progress, spod_with_progress, Dmd, DmdOptions, ModesError, Pod,
+    PodOptions, RankRule, Spod, SpodOptions,
 };
 use crate::field::{Series, TimeUnit, Units};
+use crate::progress::Progress;
 use faer::c64;
 use serde::{Deserialize, Serialize};
 use std::str::FromStr;
@@ -46,24 +48,36 @@ pub enum Decomposition {
 
 /// Computes the decomposition of `series` that `req` names.
 pub fn decompose(series: &Series, req: &ModesRequest) -> Result<Decomposition, ModesError> {
+    decompose_with_progress(series, req, &mut Progress::silent())
+}
+
+/// [`decompose`], reporting its progress (the same numbers: the observer only watches).
+pub fn decompose_with_progress(
+    series: &Series,
+    req: &ModesRequest,
+    progress: &mut Progress,
+) -> Result<Decomposition, ModesError> {
     if req.rank == Some(0) {
         return Err(ModesError::BadOption { name: "rank", rule: "must be at least 1".into() });
     }
     Ok(match req.method {
-        Method::Pod => Decomposition::Pod(pod(
+        Method::Pod => Decomposition::Pod(pod_with_progress(
             series,
             &PodOptions { rank: req.rank, ..PodOptions::default() },
+            progress,
         )?),
-        Method::Dmd => Decomposition::Dmd(dmd(
+        Method::Dmd => Decomposition::Dmd(dmd_with_progress(
             series,
             &DmdOptions {
                 rank: req.rank.map_or(RankRule::OptimalHardThreshold, RankRule::Fixed),
                 ..DmdOptions::default()
             },
+            progress,
         )?),
-        Method::Spod => Decomposition::Spod(spod(
+        Method::Spod => Decomposition::Spod(spod_with_progress(
             series,
             &SpodOptions { modes: Some(req.rank.unwrap_or(3)), ..SpodOptions::default() },
+            progress,
         )?),
     })
 }
@@ -526,6 +540,7 @@ fn spod_overview(s: &Spod, fu: &str, units: Units) -> Overview {
 mod tests {
     use super::*;
     use crate::field::SeriesParts;
+    use crate::modes::pod;
 
     /// Two travelling waves on a small grid: POD pairs, DMD conjugate pairs, an SPOD peak.
     fn waves() -> Series {

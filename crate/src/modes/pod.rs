@@ -24,11 +24,12 @@
 //! m − 1 after mean removal); the snapshot route loses relative accuracy in the tail
 //! (see [`super::linalg`]).
 
-use super::linalg::{thin_svd, SvdRoute, ThinSvd};
+use super::linalg::{svd_work, thin_svd, SvdRoute, ThinSvd, COPY_UNITS, OUTPUT_UNITS};
 use super::randomized::RandomizedSvd;
 use super::snapshots::{fix_sign, SnapshotLayout};
 use super::ModesError;
 use crate::field::Series;
+use crate::progress::Progress;
 use faer::Mat;
 
 /// How the SVD is computed.
@@ -76,6 +77,15 @@ pub struct Pod {
 
 /// POD of `series`.
 pub fn pod(series: &Series, opts: &PodOptions) -> Result<Pod, ModesError> {
+    pod_with_progress(series, opts, &mut Progress::silent())
+}
+
+/// [`pod`], reporting its progress (the same numbers: the observer only watches).
+pub fn pod_with_progress(
+    series: &Series,
+    opts: &PodOptions,
+    progress: &mut Progress,
+) -> Result<Pod, ModesError> {
     let layout = SnapshotLayout::new(series)?;
     let m = series.nt();
     if m < 2 {
@@ -92,20 +102,37 @@ pub fn pod(series: &Series, opts: &PodOptions) -> Result<Pod, ModesError> {
         return Err(ModesError::NoEnergy);
     }
     let rank = opts.rank.unwrap_or(usize::MAX);
+    // The snapshot matrix (built), and the modes and coefficients handed out (at most m).
+    let n = y.nrows();
+    let build = COPY_UNITS * (n * m) as f64;
+    let output = |r: usize| OUTPUT_UNITS * ((n + m) * r) as f64;
+    progress.plan(build + output(m.min(rank)));
     let (svd, solver) = match opts.solver {
         PodSolver::Exact(route) => {
             let route = route.resolve(y.nrows(), y.ncols());
-            (thin_svd(y.as_ref(), route, rank)?, PodSolver::Exact(route))
+            progress.plan(svd_work(n, m, route, rank));
+            progress.advance(build);
+            let svd = thin_svd(y.as_ref(), route, rank, progress)?;
+            // Data of a lower numerical rank than planned for keep fewer modes.
+            let r = svd.s.len();
+            progress.revise(svd_work(n, m, route, rank), svd_work(n, m, route, r));
+            (svd, PodSolver::Exact(route))
         }
         PodSolver::Randomized(r) => {
             let k = opts.rank.ok_or(ModesError::BadOption {
                 name: "rank",
                 rule: "the randomized solver needs the number of modes".into(),
             })?;
+            progress.advance(build);
             (r.compute(y.as_ref(), k)?, opts.solver)
         }
     };
-    Ok(assemble(layout, mean, svd, total_energy, m, solver))
+    let r = svd.s.len();
+    progress.revise(output(m.min(rank)), output(r));
+    let out = assemble(layout, mean, svd, total_energy, m, solver);
+    progress.advance(output(r));
+    progress.finish();
+    Ok(out)
 }
 
 fn assemble(

@@ -30,6 +30,17 @@ pub fn hard_threshold_factor(beta: f64) -> f64 {
 }
 
 impl RankRule {
+    /// A guess of the rank this rule will pick for a matrix with `cols` ≤ rows columns,
+    /// before the singular values are known: exact for `Fixed` (unless the numerical rank is
+    /// lower), a quarter of the columns otherwise. Only for progress plans, which are revised
+    /// once the rank is known.
+    pub fn guess(&self, cols: usize) -> usize {
+        match *self {
+            RankRule::Fixed(r) => r.clamp(1, cols.max(1)),
+            _ => (cols / 4).max(1),
+        }
+    }
+
     /// The rank this rule picks from the singular values `s` (nonincreasing) of an
     /// `rows × cols` matrix; values dropped as round-off before count as zeros.
     pub fn pick(&self, s: &[f64], rows: usize, cols: usize) -> Result<usize, ModesError> {

@@ -44,15 +44,20 @@ enum Meta {
 }
 
 /// The `f64` values, appended in order.
-struct Writer(Vec<f64>);
+/// The values as little-endian bytes, written straight into the output (no intermediate
+/// copy: the modes of a large series are the bulk of the page's memory at that moment).
+struct Writer(Vec<u8>);
 
 impl Writer {
     fn reals(&mut self, v: &[f64]) {
-        self.0.extend_from_slice(v);
+        for x in v {
+            self.0.extend_from_slice(&x.to_le_bytes());
+        }
     }
     fn complex(&mut self, v: impl IntoIterator<Item = c64>) {
         for z in v {
-            self.0.extend_from_slice(&[z.re, z.im]);
+            self.0.extend_from_slice(&z.re.to_le_bytes());
+            self.0.extend_from_slice(&z.im.to_le_bytes());
         }
     }
     fn real_matrix(&mut self, m: &Mat<f64>) {
@@ -100,21 +105,59 @@ impl Reader<'_> {
 
 /// The decomposition as bytes (layout in the module doc).
 pub fn encode(d: &Decomposition) -> Vec<u8> {
-    let mut w = Writer(Vec::new());
-    let meta = match d {
-        Decomposition::Pod(p) => {
-            w.reals(&p.mean);
-            w.real_matrix(&p.modes);
-            w.reals(&p.singular_values);
-            w.real_matrix(&p.coefficients);
-            w.reals(&[p.total_energy]);
+    let (meta, values) = match d {
+        Decomposition::Pod(p) => (
             Meta::Pod {
                 rows: p.modes.nrows(),
                 rank: p.modes.ncols(),
                 snapshots: p.coefficients.nrows(),
                 singular: p.singular_values.len(),
                 solver: p.solver,
-            }
+            },
+            p.mean.len()
+                + p.modes.nrows() * p.modes.ncols()
+                + p.singular_values.len()
+                + p.coefficients.nrows() * p.coefficients.ncols()
+                + 1,
+        ),
+        Decomposition::Dmd(d) => (
+            Meta::Dmd {
+                rows: d.modes.nrows(),
+                rank: d.modes.ncols(),
+                singular: d.singular_values.len(),
+                variant: d.variant,
+            },
+            2 + 2 * (d.eigenvalues.len() + d.modes.nrows() * d.modes.ncols() + d.amplitudes.len())
+                + d.singular_values.len(),
+        ),
+        Decomposition::Spod(s) => (
+            Meta::Spod {
+                rows: s.mean.len(),
+                block: s.block,
+                overlap: s.overlap,
+                blocks: s.blocks,
+                energies: s.energies.iter().map(Vec::len).collect(),
+                modes: s.modes.iter().map(|m| m.ncols()).collect(),
+            },
+            s.mean.len()
+                + 1
+                + s.frequencies.len()
+                + s.energies.iter().map(Vec::len).sum::<usize>()
+                + 2 * s.modes.iter().map(|m| m.nrows() * m.ncols()).sum::<usize>(),
+        ),
+    };
+    let json = serde_json::to_vec(&meta).expect("the metadata always serializes");
+    let mut w = Writer(Vec::with_capacity(12 + json.len() + 8 * values));
+    w.0.extend_from_slice(MAGIC);
+    w.0.extend_from_slice(&(json.len() as u32).to_le_bytes());
+    w.0.extend_from_slice(&json);
+    match d {
+        Decomposition::Pod(p) => {
+            w.reals(&p.mean);
+            w.real_matrix(&p.modes);
+            w.reals(&p.singular_values);
+            w.real_matrix(&p.coefficients);
+            w.reals(&[p.total_energy]);
         }
         Decomposition::Dmd(d) => {
             w.reals(&[d.dt, d.t0]);
@@ -122,12 +165,6 @@ pub fn encode(d: &Decomposition) -> Vec<u8> {
             w.complex_matrix(&d.modes);
             w.complex(d.amplitudes.iter().copied());
             w.reals(&d.singular_values);
-            Meta::Dmd {
-                rows: d.modes.nrows(),
-                rank: d.modes.ncols(),
-                singular: d.singular_values.len(),
-                variant: d.variant,
-            }
         }
         Decomposition::Spod(s) => {
             w.reals(&s.mean);
@@ -139,25 +176,10 @@ pub fn encode(d: &Decomposition) -> Vec<u8> {
             for m in &s.modes {
                 w.complex_matrix(m);
             }
-            Meta::Spod {
-                rows: s.mean.len(),
-                block: s.block,
-                overlap: s.overlap,
-                blocks: s.blocks,
-                energies: s.energies.iter().map(Vec::len).collect(),
-                modes: s.modes.iter().map(|m| m.ncols()).collect(),
-            }
         }
-    };
-    let json = serde_json::to_vec(&meta).expect("the metadata always serializes");
-    let mut out = Vec::with_capacity(12 + json.len() + 8 * w.0.len());
-    out.extend_from_slice(MAGIC);
-    out.extend_from_slice(&(json.len() as u32).to_le_bytes());
-    out.extend_from_slice(&json);
-    for v in w.0 {
-        out.extend_from_slice(&v.to_le_bytes());
     }
-    out
+    debug_assert_eq!(w.0.len(), 12 + json.len() + 8 * values, "the size reserved");
+    w.0
 }
 
 /// Reads bytes written by [`encode`] for a decomposition of `series` (the same series the

@@ -6,8 +6,11 @@ use super::js_error;
 use super::Dataset;
 use crate::field::{Grid, Units};
 use crate::io::{MapFormat, ScalarMap};
-use crate::modes::overview::{decompose, Component, Decomposition, ModesRequest};
+use crate::modes::overview::{
+    decompose, decompose_with_progress, Component, Decomposition, ModesRequest,
+};
 use crate::modes::transfer;
+use crate::progress::Progress;
 use crate::render::sensitivity::{centred_range, magnitude_range};
 use crate::render::{mask_rgba, paint_rgba, ColorRange, Colormap, ColormapKind};
 use wasm_bindgen::prelude::*;
@@ -59,10 +62,27 @@ impl Dataset {
     }
 
     /// The same decomposition as [`Dataset::decompose`], as bytes for the page (a compute
-    /// worker's job; [`crate::modes::transfer`]).
+    /// worker's job; [`crate::modes::transfer`]). `on_progress(fraction)`, when given, is
+    /// called as the work advances ([`crate::progress`]: at most a few hundred times, with
+    /// fractions that never decrease, 1 at the end); it only watches, the numbers are the
+    /// same. An exception it throws is ignored.
     #[wasm_bindgen(js_name = decomposeBytes)]
-    pub fn decompose_bytes(&self, request_json: &str) -> Result<Vec<u8>, JsError> {
-        let inner = decompose(self.series(), &request(request_json)?).map_err(js_error)?;
+    pub fn decompose_bytes(
+        &self,
+        request_json: &str,
+        on_progress: Option<js_sys::Function>,
+    ) -> Result<Vec<u8>, JsError> {
+        let req = request(request_json)?;
+        let inner = match on_progress {
+            Some(f) => {
+                let mut report = |fraction: f64| {
+                    let _ = f.call1(&JsValue::NULL, &JsValue::from_f64(fraction));
+                };
+                decompose_with_progress(self.series(), &req, &mut Progress::to(&mut report))
+            }
+            None => decompose(self.series(), &req),
+        }
+        .map_err(js_error)?;
         Ok(transfer::encode(&inner))
     }
 
