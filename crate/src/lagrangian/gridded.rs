@@ -17,6 +17,7 @@
 use super::kernels::{
     hermite_time, keys_fold, keys_weights, linear_time, locate_time, TimeStencil, TIME_TOL,
 };
+use super::pair::{self, Pair};
 use super::velocity::{Mat2, Rect, Vec2, VelocityField};
 use crate::field::Series;
 use serde::{Deserialize, Serialize};
@@ -447,14 +448,9 @@ impl<'a> GriddedField<'a> {
     }
 
     /// The [`LinearPath`] sample: the fractions (sx, sy) in the cell and its four corners
-    /// combined in time, for u and v; `None` without data.
+    /// combined in time, as (u, v) pairs; `None` without data.
     #[inline(always)]
-    fn linear_cell(
-        &self,
-        lp: &LinearPath,
-        p: Vec2,
-        t: f64,
-    ) -> Option<(f64, f64, [f64; 4], [f64; 4])> {
+    fn linear_cell(&self, lp: &LinearPath, p: Vec2, t: f64) -> Option<(f64, f64, [Pair; 4])> {
         let fx = (p[0] - self.x0) * self.inv_dx;
         let fy = (p[1] - self.y0) * self.inv_dy;
         // Non-short-circuit `&`: one combined test instead of six branches.
@@ -488,30 +484,34 @@ impl<'a> GriddedField<'a> {
             let q: &[f32; 2] = f[a..a + 2].try_into().expect("two values");
             [q[0] as f64, q[1] as f64]
         };
+        // Corner (u, v) pairs, each w₀·(snapshot k) + w₁·(snapshot k + 1): per lane the
+        // operations of the general stencil ([`super::pair`]).
+        let (a, b) = (Pair::splat(w0), Pair::splat(w1));
         let (u00, u01, u10, u11) =
             (pair(u, o), pair(u, o + nx), pair(u, o + plane), pair(u, o + plane + nx));
         let (v00, v01, v10, v11) =
             (pair(v, o), pair(v, o + nx), pair(v, o + plane), pair(v, o + plane + nx));
-        let cu = [
-            w0 * u00[0] + w1 * u10[0],
-            w0 * u00[1] + w1 * u10[1],
-            w0 * u01[0] + w1 * u11[0],
-            w0 * u01[1] + w1 * u11[1],
-        ];
-        let cv = [
-            w0 * v00[0] + w1 * v10[0],
-            w0 * v00[1] + w1 * v10[1],
-            w0 * v01[0] + w1 * v11[0],
-            w0 * v01[1] + w1 * v11[1],
-        ];
-        Some((sx, sy, cu, cv))
+        let corner = |now: [f64; 2], next: [f64; 2]| {
+            a.mul(Pair::new(now[0], now[1])).add(b.mul(Pair::new(next[0], next[1])))
+        };
+        Some((
+            sx,
+            sy,
+            [
+                corner([u00[0], v00[0]], [u10[0], v10[0]]),
+                corner([u00[1], v00[1]], [u10[1], v10[1]]),
+                corner([u01[0], v01[0]], [u11[0], v11[0]]),
+                corner([u01[1], v01[1]], [u11[1], v11[1]]),
+            ],
+        ))
     }
 
     #[inline(always)]
     fn sample(&self, p: Vec2, t: f64) -> Option<(Vec2, Mat2)> {
         if let Some(lp) = &self.linear {
-            let (sx, sy, cu, cv) = self.linear_cell(lp, p, t)?;
-            return Some(self.bilinear_from(&cu, &cv, sx, sy));
+            let (sx, sy, c) = self.linear_cell(lp, p, t)?;
+            let d = pair::gradient(&c, sx, sy, self.inv_dx, self.inv_dy);
+            return Some((pair::lerp(&c, sx, sy), [[d[0][0], d[1][0]], [d[0][1], d[1][1]]]));
         }
         let (i, j, sx, sy) = self.locate(p)?;
         let st = self.stencil(t)?;
@@ -529,8 +529,8 @@ impl<'a> GriddedField<'a> {
     #[inline(always)]
     fn sample_velocity(&self, p: Vec2, t: f64) -> Option<Vec2> {
         if let Some(lp) = &self.linear {
-            let (sx, sy, cu, cv) = self.linear_cell(lp, p, t)?;
-            return Some([Self::lerp(&cu, sx, sy), Self::lerp(&cv, sx, sy)]);
+            let (sx, sy, c) = self.linear_cell(lp, p, t)?;
+            return Some(pair::lerp(&c, sx, sy));
         }
         if self.space == SpaceInterp::Cubic {
             return self.sample(p, t).map(|(u, _)| u);

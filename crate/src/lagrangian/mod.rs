@@ -29,6 +29,7 @@ mod gridded;
 mod kernels;
 mod lockstep;
 mod outcome;
+mod pair;
 #[cfg(feature = "cli")]
 pub mod parallel;
 pub mod ridges;

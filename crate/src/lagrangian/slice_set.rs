@@ -9,7 +9,8 @@
 //! of an exiting tracer does, computes exactly what the per-tracer path computes.
 
 use super::gridded::{GriddedField, SliceSource};
-use super::lockstep::{corners, lerp, locate, max_abs_v, Geometry, Slice};
+use super::lockstep::{corners, locate, max_abs_v, Geometry, Slice};
+use super::pair;
 use super::velocity::{Mat2, Vec2};
 
 /// `count` slices of a field that [`super::engine::lockstep_field`] accepted.
@@ -75,7 +76,7 @@ impl<'f> SliceSet<'f> {
     pub(crate) fn velocity(&self, k: usize, p: Vec2) -> Option<Vec2> {
         let (inside, node, sx, sy) = locate(&self.geom, &p);
         let (c, has) = corners(&self.slices[k], &self.geom, node);
-        (inside & has).then(|| [lerp(&c, 0, sx, sy), lerp(&c, 1, sx, sy)])
+        (inside & has).then(|| pair::lerp(&pair::pairs(&c), sx, sy))
     }
 
     /// The velocity and its gradient `[[∂u/∂x, ∂u/∂y], [∂v/∂x, ∂v/∂y]]` at `p` on slice
@@ -88,12 +89,9 @@ impl<'f> SliceSet<'f> {
         if !(inside & has) {
             return None;
         }
-        let grad = |n: usize| {
-            let dx = ((1.0 - sy) * (c[1][n] - c[0][n]) + sy * (c[3][n] - c[2][n])) * g.inv_dx;
-            let dy = ((1.0 - sx) * (c[2][n] - c[0][n]) + sx * (c[3][n] - c[1][n])) * g.inv_dy;
-            [dx, dy]
-        };
-        Some(([lerp(&c, 0, sx, sy), lerp(&c, 1, sx, sy)], [grad(0), grad(1)]))
+        let c = pair::pairs(&c);
+        let d = pair::gradient(&c, sx, sy, g.inv_dx, g.inv_dy);
+        Some((pair::lerp(&c, sx, sy), [[d[0][0], d[1][0]], [d[0][1], d[1][1]]]))
     }
 }
 
