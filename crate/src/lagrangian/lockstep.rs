@@ -18,7 +18,8 @@
 //! arithmetic are the same operations in the same order, and the data checks (window,
 //! time range, cells flagged by mask or gaps in either snapshot) are the field's. A tracer
 //! whose step meets "no velocity" is handed, from the start of that step, to the
-//! per-tracer integrator ([`resume_rk4`]), which locates the exit exactly as before. The
+//! per-tracer integrator, which locates the exit exactly as before; the tracers failing in
+//! one step go together ([`exits_together`]), interleaved so their samples overlap. The
 //! tests (here and `crate/tests/lagrangian_lockstep.rs`) check the identity.
 //!
 //! Slices are only blended on the rows the tracers can reach during the step (their
@@ -39,7 +40,7 @@
 use super::gridded::{Bracket, GriddedField, SliceSource, EDGE_TOL};
 use super::outcome::{Outcome, Stop};
 use super::pair;
-use super::rk4::{resume_rk4, stage_input, step_count};
+use super::rk4::{exits_together, resume_rk4, stage_input, step_count};
 use super::system::{System, Tangent, Tracer};
 use super::tableau::{combine, RK4};
 use std::ops::Range;
@@ -353,6 +354,8 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
     let mut slices = [Slice::new(g.nx, g.ny), Slice::new(g.nx, g.ny), Slice::new(g.nx, g.ny)];
     let mut k = vec![[[0.0f64; N]; 4]; BLOCK];
     let mut ok = [true; BLOCK];
+    // Tracers whose step failed, handed to the per-tracer integrator together.
+    let mut handover: Vec<(usize, [f64; N])> = Vec::new();
     for s in 0..n {
         // The time integrate_rk4 holds after `s` steps (t₀ itself before the first).
         let time = if s == 0 { t0 } else { t0 + s as f64 * h };
@@ -390,34 +393,50 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
         let last = s + 1 == n;
         let few = active.len() < MIN_TRACERS;
         (lo, hi) = (f64::INFINITY, f64::NEG_INFINITY);
-        active.retain_mut(|tr| {
-            if tr.failed {
-                // `y` is still the state at the start of step s: failed steps never combine.
-                let out = resume_rk4(fallback, tr.y, t0, horizon, n, h, s, calls_after(s));
-                finish(tr.id, out);
-                return false;
+        handover.clear();
+        if last || few {
+            for tr in active.drain(..) {
+                if tr.failed {
+                    // `y` is still the state at the start of step s: failed steps never
+                    // combine.
+                    handover.push((tr.id, tr.y));
+                } else if last {
+                    let out = Outcome {
+                        y: tr.y,
+                        t: t0 + horizon,
+                        stop: Stop::Complete,
+                        rhs_calls: calls_after(n),
+                        rejected: 0,
+                    };
+                    finish(tr.id, out);
+                } else {
+                    let out =
+                        resume_rk4(fallback, tr.y, t0, horizon, n, h, s + 1, calls_after(s + 1));
+                    finish(tr.id, out);
+                }
             }
-            if last {
-                let out = Outcome {
-                    y: tr.y,
-                    t: t0 + horizon,
-                    stop: Stop::Complete,
-                    rhs_calls: calls_after(n),
-                    rejected: 0,
-                };
-                finish(tr.id, out);
-                return false;
+        } else {
+            // The common step: keep the tracers that go on, in order, and find their extent
+            // (a plain loop: `retain_mut`'s closure was a call per tracer, with the extent
+            // in memory).
+            let mut kept = 0;
+            for i in 0..active.len() {
+                let tr = active[i];
+                if tr.failed {
+                    handover.push((tr.id, tr.y));
+                    continue;
+                }
+                let r = cell_row(tr.y[1]);
+                lo = lo.min(r);
+                hi = hi.max(r);
+                active[kept] = tr;
+                kept += 1;
             }
-            if few {
-                let out = resume_rk4(fallback, tr.y, t0, horizon, n, h, s + 1, calls_after(s + 1));
-                finish(tr.id, out);
-                return false;
-            }
-            let r = cell_row(tr.y[1]);
-            lo = lo.min(r);
-            hi = hi.max(r);
-            true
-        });
+            active.truncate(kept);
+        }
+        if !handover.is_empty() {
+            exits_together(fallback, &handover, t0, horizon, n, h, s, calls_after(s), &mut finish);
+        }
         if active.is_empty() {
             return;
         }

@@ -114,6 +114,113 @@ fn locate_exit<const N: usize, Sys: System<N>>(
     Outcome { y, t, stop: Stop::Exited, rhs_calls: calls, rejected: 0 }
 }
 
+/// A trajectory whose step failed, being bisected by [`exits_together`].
+#[derive(Clone, Copy)]
+struct Exiting<const N: usize> {
+    id: usize,
+    t: f64,
+    y: [f64; N],
+    calls: u32,
+}
+
+/// [`resume_rk4`] for many trajectories whose step `from` (of `n` steps of `h` from `t0`)
+/// is known to fail, or to need checking: the lockstep path hands over its failed tracers
+/// (`starts`: id and state at the start of that step, after `calls` evaluations each) in one
+/// group. The step is tried again and, where it fails, bisected as [`locate_exit`] does,
+/// all members interleaved stage by stage so that their chains of dependent samples overlap
+/// on the processor (one trajectory at a time, each sample waits for the one before). Each
+/// member does the operations [`resume_rk4`] would, in the same order: results are
+/// bit-identical; a member whose step succeeds after all (a failure that was the caller's
+/// own, e.g. outside the rows it had prepared) continues alone through [`resume_rk4`].
+#[allow(clippy::too_many_arguments)]
+pub(super) fn exits_together<const N: usize, Sys: System<N>>(
+    sys: &Sys,
+    starts: &[(usize, [f64; N])],
+    t0: f64,
+    horizon: f64,
+    n: u64,
+    h: f64,
+    from: u64,
+    calls: u32,
+    mut finish: impl FnMut(usize, Outcome<N>),
+) {
+    // The time integrate_rk4 holds after `from` steps (t₀ itself before the first).
+    let t = if from == 0 { t0 } else { t0 + from as f64 * h };
+    let mut group: Vec<Exiting<N>> = starts
+        .iter()
+        .map(|&(id, y)| Exiting { id, t, y, calls: calls.saturating_add(4) })
+        .collect();
+    let mut k = vec![[[0.0; N]; 4]; group.len()];
+    let mut ok = vec![true; group.len()];
+    try_steps(sys, &group, h, &mut k, &mut ok);
+    let mut kept = 0;
+    for i in 0..group.len() {
+        if ok[i] {
+            let (id, y) = starts[i];
+            finish(id, resume_rk4(sys, y, t0, horizon, n, h, from, calls));
+        } else {
+            group[kept] = group[i];
+            kept += 1;
+        }
+    }
+    group.truncate(kept);
+    let mut hh = h;
+    for _ in 0..EXIT_BISECTIONS {
+        hh *= 0.5;
+        try_steps(sys, &group, hh, &mut k, &mut ok);
+        for ((e, kl), &good) in group.iter_mut().zip(&k).zip(&ok) {
+            e.calls = e.calls.saturating_add(4);
+            if good {
+                e.y = combine(&RK4.b, hh, &e.y, kl);
+                e.t += hh;
+            }
+        }
+    }
+    for e in group {
+        finish(
+            e.id,
+            Outcome { y: e.y, t: e.t, stop: Stop::Exited, rhs_calls: e.calls, rejected: 0 },
+        );
+    }
+}
+
+/// One RK4 step of `hh` from each member's (t, y), stage by stage across the members: the
+/// stage derivatives in `k`, and in `ok` whether every stage had data.
+fn try_steps<const N: usize, Sys: System<N>>(
+    sys: &Sys,
+    group: &[Exiting<N>],
+    hh: f64,
+    k: &mut [[[f64; N]; 4]],
+    ok: &mut [bool],
+) {
+    ok[..group.len()].fill(true);
+    exit_stage::<0, N, Sys>(sys, group, hh, k, ok);
+    exit_stage::<1, N, Sys>(sys, group, hh, k, ok);
+    exit_stage::<2, N, Sys>(sys, group, hh, k, ok);
+    exit_stage::<3, N, Sys>(sys, group, hh, k, ok);
+}
+
+/// Stage `I` of [`try_steps`]: members whose step already failed are skipped.
+#[inline(always)]
+fn exit_stage<const I: usize, const N: usize, Sys: System<N>>(
+    sys: &Sys,
+    group: &[Exiting<N>],
+    hh: f64,
+    k: &mut [[[f64; N]; 4]],
+    ok: &mut [bool],
+) {
+    for ((e, kl), good) in group.iter().zip(k.iter_mut()).zip(ok.iter_mut()) {
+        if !*good {
+            continue;
+        }
+        let yi = stage_input(I, hh, &e.y, kl);
+        match sys.rhs(e.t + RK4.c[I] * hh, &yi) {
+            Some(d) => kl[I] = d,
+            None => *good = false,
+        }
+    }
+}
+
 /// One trajectory in flight in [`integrate_rk4_lanes`].
 #[derive(Clone, Copy)]
 struct Lane<const N: usize> {
