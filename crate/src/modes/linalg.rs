@@ -7,7 +7,10 @@
 //! triangle of YᵀY (half the flops of the full product, faer's blocked f64 kernels) and
 //! multiplies Y by the m × r factor V diag(1/s) once; at 40000 × 1000 the Gram product is
 //! about three quarters of the time and faer's self-adjoint eigensolver about a tenth
-//! (BENCHMARKS.md, "Modes"). Threads follow faer's global parallelism setting.
+//! (BENCHMARKS.md, "Modes"). Threads follow faer's global parallelism setting. The Gram
+//! product runs in panels of columns and the mode product in panels of rows, so that a
+//! [`Progress`] can report between them (the page's time-left estimate); the panels cost
+//! no measurable speed (BENCHMARKS.md, "Modes").
 //!
 //! Accuracy: the direct SVD gives every singular value to about ε·s₁ absolute. The snapshot
 //! method gives λ = s² to about ε·s₁², so s_j is accurate to a relative ε(s₁/s_j)²/2: fine
