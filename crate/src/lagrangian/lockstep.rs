@@ -49,6 +49,10 @@ use std::ops::Range;
 /// (4·N f64 each) stay in the L1 cache across the four passes.
 const BLOCK: usize = 64;
 
+/// Steps between two compactions of the tracers in flight (sooner when many were handed
+/// over).
+const COMPACT_EVERY: u64 = 8;
+
 /// Below this many tracers, blending slices costs more than it saves: the per-tracer
 /// integrator takes them (at the start, and when exits thin the set out).
 pub(super) const MIN_TRACERS: usize = 16;
@@ -354,8 +358,10 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
     let mut slices = [Slice::new(g.nx, g.ny), Slice::new(g.nx, g.ny), Slice::new(g.nx, g.ny)];
     let mut k = vec![[[0.0f64; N]; 4]; BLOCK];
     let mut ok = [true; BLOCK];
-    // Tracers whose step failed, handed to the per-tracer integrator together.
+    // Tracers whose step failed, handed to the per-tracer integrator together; how many of
+    // them are still in `active` (dropped at the next compaction).
     let mut handover: Vec<(usize, [f64; N])> = Vec::new();
+    let mut gone = 0usize;
     for s in 0..n {
         // The time integrate_rk4 holds after `s` steps (t₀ itself before the first).
         let time = if s == 0 { t0 } else { t0 + s as f64 * h };
@@ -373,6 +379,7 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
             }
         }
         let [sa, sb, sc] = &slices;
+        handover.clear();
         for block in active.chunks_mut(BLOCK) {
             let m = block.len();
             ok[..m].fill(true);
@@ -381,25 +388,31 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
             stage::<2, N, K>(&g, sb, h, block, &mut k, &mut ok);
             stage::<3, N, K>(&g, sc, h, block, &mut k, &mut ok);
             for ((tr, kl), &good) in block.iter_mut().zip(&k).zip(&ok) {
+                if tr.failed {
+                    // Handed over at an earlier step, waiting for the next compaction.
+                    continue;
+                }
                 if good {
                     tr.y = combine(&RK4.b, h, &tr.y, kl);
                 } else {
+                    // `y` is still the state at the start of step s: failed steps never
+                    // combine.
                     tr.failed = true;
+                    handover.push((tr.id, tr.y));
                 }
             }
         }
-        // Hand over the tracers whose step failed (from the start of that step), finish
-        // the completed ones, and find the extent of the others.
+        gone += handover.len();
+        // Finish the completed tracers at the last step (or all, when too few are left for
+        // slices); otherwise drop the handed-over ones only every few steps or once they
+        // are many (a pass over all tracers costs about a tenth of a step), and widen the
+        // extent by one step's reach in between (it can grow by no more).
         let last = s + 1 == n;
-        let few = active.len() < MIN_TRACERS;
-        (lo, hi) = (f64::INFINITY, f64::NEG_INFINITY);
-        handover.clear();
+        let few = active.len() - gone < MIN_TRACERS;
         if last || few {
             for tr in active.drain(..) {
                 if tr.failed {
-                    // `y` is still the state at the start of step s: failed steps never
-                    // combine.
-                    handover.push((tr.id, tr.y));
+                    continue;
                 } else if last {
                     let out = Outcome {
                         y: tr.y,
@@ -415,15 +428,13 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
                     finish(tr.id, out);
                 }
             }
-        } else {
-            // The common step: keep the tracers that go on, in order, and find their extent
-            // (a plain loop: `retain_mut`'s closure was a call per tracer, with the extent
-            // in memory).
+            gone = 0;
+        } else if s % COMPACT_EVERY == COMPACT_EVERY - 1 || gone * 16 > active.len() {
+            (lo, hi) = (f64::INFINITY, f64::NEG_INFINITY);
             let mut kept = 0;
             for i in 0..active.len() {
                 let tr = active[i];
                 if tr.failed {
-                    handover.push((tr.id, tr.y));
                     continue;
                 }
                 let r = cell_row(tr.y[1]);
@@ -433,6 +444,10 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
                 kept += 1;
             }
             active.truncate(kept);
+            gone = 0;
+        } else {
+            lo -= reach;
+            hi += reach;
         }
         if !handover.is_empty() {
             exits_together(fallback, &handover, t0, horizon, n, h, s, calls_after(s), &mut finish);
