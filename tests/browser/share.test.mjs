@@ -118,7 +118,12 @@ test('a broken recipe is refused with the core\'s reason; a dropped recipe is ap
     dt.items.add(new File([text], 'mine.json', { type: 'application/json' }));
     document.dispatchEvent(new DragEvent('drop', { dataTransfer: dt, bubbles: true, cancelable: true }));
   }, JSON.stringify(recipe));
-  await page.waitForFunction(() => document.getElementById('tr-horizon').value === '0.25');
+  // The settings are applied in more than one task (the view after the transport form):
+  // wait for both, so the check does not race the page.
+  await page.waitForFunction(() => document.getElementById('tr-horizon').value === '0.25'
+    && document.getElementById('quantity').value === 'speed', null, { timeout: 10000 })
+    .catch(() => {});
+  assert.equal((await controls(page)).horizon, '0.25');
   assert.equal((await controls(page)).quantity, 'speed');
   assert.match(await page.locator('#message').textContent(), /Recipe “mine\.json” applied/);
 });
