@@ -5,6 +5,8 @@
 // bar passes 10, 25, 50, 75 and 90 %. Prints one table per method (BENCHMARKS.md, "Modes").
 //
 // Usage: node tests/bench/modes_progress.mjs DATA.npz [METHODS]
+//   (tests/bench/run-modes-progress.sh writes the series of the BENCHMARKS.md record and runs
+//   this script on it)
 //   METHODS: comma-separated requests as the page sends them, e.g. pod,dmd:20,spod
 //   (default pod,dmd:20,spod). Needs www/pkg (bash www/build.sh).
 

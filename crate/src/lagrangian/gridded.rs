@@ -510,8 +510,8 @@ impl<'a> GriddedField<'a> {
     fn sample(&self, p: Vec2, t: f64) -> Option<(Vec2, Mat2)> {
         if let Some(lp) = &self.linear {
             let (sx, sy, c) = self.linear_cell(lp, p, t)?;
-            let d = pair::gradient(&c, sx, sy, self.inv_dx, self.inv_dy);
-            return Some((pair::lerp(&c, sx, sy), [[d[0][0], d[1][0]], [d[0][1], d[1][1]]]));
+            let g = pair::gradient(&c, sx, sy, self.inv_dx, self.inv_dy);
+            return Some((pair::lerp(&c, sx, sy), g));
         }
         let (i, j, sx, sy) = self.locate(p)?;
         let st = self.stencil(t)?;

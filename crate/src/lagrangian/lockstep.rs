@@ -43,7 +43,7 @@ use super::gridded::{Bracket, GriddedField, SliceSource, EDGE_TOL};
 use super::outcome::{Outcome, Stop};
 use super::pair;
 use super::rk4::{exits_together, resume_rk4, stage_input, step_count};
-use super::system::{System, Tangent, Tracer};
+use super::system::{tangent_derivative, System, Tangent, Tracer};
 use super::tableau::{combine, RK4};
 use std::ops::Range;
 
@@ -249,20 +249,8 @@ impl SliceRhs<6> for TangentPositions {
         let (inside, node, sx, sy) = locate(g, y);
         let (c, has) = corners(s, g, node);
         let c = pair::pairs(&c);
-        let vel = pair::lerp(&c, sx, sy);
-        // [∂x (u, v), ∂y (u, v)]: ∇u = (d[0][0], d[1][0]), ∇v = (d[0][1], d[1][1]).
-        let d = pair::gradient(&c, sx, sy, g.inv_dx, g.inv_dy);
-        (
-            [
-                vel[0],
-                vel[1],
-                d[0][0] * y[2] + d[1][0] * y[4],
-                d[0][0] * y[3] + d[1][0] * y[5],
-                d[0][1] * y[2] + d[1][1] * y[4],
-                d[0][1] * y[3] + d[1][1] * y[5],
-            ],
-            inside & has,
-        )
+        let grad = pair::gradient(&c, sx, sy, g.inv_dx, g.inv_dy);
+        (tangent_derivative(pair::lerp(&c, sx, sy), grad, y), inside & has)
     }
 }
 

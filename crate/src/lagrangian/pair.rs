@@ -11,6 +11,8 @@
 //! `lockstep` check that. SSE2 (part of every x86-64 processor) natively, simd128 in the
 //! page's WebAssembly build (`.cargo/config.toml`), plain scalars anywhere else.
 
+use super::velocity::Mat2;
+
 #[cfg(target_arch = "x86_64")]
 mod lanes {
     use std::arch::x86_64::*;
@@ -149,14 +151,13 @@ pub(super) fn lerp(c: &[Pair; 4], sx: f64, sy: f64) -> [f64; 2] {
     ay.mul(low).add(by.mul(high)).get()
 }
 
-/// ∂/∂x and ∂/∂y of (u, v) from the corners: per lane the field's expressions
-/// ((1 − sy)(c₁ − c₀) + sy(c₃ − c₂))/Δx and ((1 − sx)(c₂ − c₀) + sx(c₃ − c₁))/Δy, as
-/// `[∂x (u, v), ∂y (u, v)]`.
+/// The Jacobian [[∂u/∂x, ∂u/∂y], [∂v/∂x, ∂v/∂y]] from the corners: per lane the field's
+/// expressions ((1 − sy)(c₁ − c₀) + sy(c₃ − c₂))/Δx and ((1 − sx)(c₂ − c₀) + sx(c₃ − c₁))/Δy.
 #[inline(always)]
-pub(super) fn gradient(c: &[Pair; 4], sx: f64, sy: f64, inv_dx: f64, inv_dy: f64) -> [[f64; 2]; 2] {
+pub(super) fn gradient(c: &[Pair; 4], sx: f64, sy: f64, inv_dx: f64, inv_dy: f64) -> Mat2 {
     let (ax, bx) = (Pair::splat(1.0 - sx), Pair::splat(sx));
     let (ay, by) = (Pair::splat(1.0 - sy), Pair::splat(sy));
-    let dx = ay.mul(c[1].sub(c[0])).add(by.mul(c[3].sub(c[2]))).mul(Pair::splat(inv_dx));
-    let dy = ax.mul(c[2].sub(c[0])).add(bx.mul(c[3].sub(c[1]))).mul(Pair::splat(inv_dy));
-    [dx.get(), dy.get()]
+    let dx = ay.mul(c[1].sub(c[0])).add(by.mul(c[3].sub(c[2]))).mul(Pair::splat(inv_dx)).get();
+    let dy = ax.mul(c[2].sub(c[0])).add(bx.mul(c[3].sub(c[1]))).mul(Pair::splat(inv_dy)).get();
+    [[dx[0], dy[0]], [dx[1], dy[1]]]
 }

@@ -349,6 +349,53 @@ mod tests {
     use crate::lagrangian::system::{Tangent, Tracer};
     use crate::lagrangian::velocity::{Rect, Windowed};
 
+    /// `exits_together` is `resume_rk4` for each member, bit for bit: members whose step
+    /// fails (exits located by bisection) and members whose step succeeds after all (the
+    /// lockstep path's own failures, which continue alone to the end or a later exit), at
+    /// the first step and at a later one, positions and tangent states.
+    #[test]
+    fn exits_together_match_resume_rk4_bit_for_bit() {
+        let field = Windowed {
+            inner: DoubleGyre::periodic(),
+            rect: Rect { x0: 0.2, x1: 1.7, y0: 0.1, y1: 0.9 },
+        };
+        let (t0, horizon, n) = (0.5, 4.0, 40u64);
+        let h = horizon / n as f64;
+        // A row across the window, with points just inside each side edge: some leave in
+        // the step, the others go on.
+        let starts: Vec<(usize, [f64; 2])> = (0..30)
+            .map(|c| (c, [0.2005 + 0.0517 * c as f64, 0.1003 + 0.0271 * (c % 29) as f64]))
+            .collect();
+        for from in [0u64, 7] {
+            let calls = 4 * from as u32;
+            let mut got = vec![None; starts.len()];
+            exits_together(&Tracer(&field), &starts, t0, horizon, n, h, from, calls, |c, out| {
+                assert!(got[c].is_none(), "member {c} finished twice");
+                got[c] = Some(out);
+            });
+            let mut exited_in_step = 0;
+            for &(c, p) in &starts {
+                let want = resume_rk4(&Tracer(&field), p, t0, horizon, n, h, from, calls);
+                assert_eq!(got[c], Some(want), "member {c} from step {from}");
+                exited_in_step += (want.rhs_calls == calls + 4 * (1 + EXIT_BISECTIONS)) as usize;
+            }
+            assert!(
+                exited_in_step >= 2 && exited_in_step + 2 <= starts.len(),
+                "{exited_in_step} members exit in step {from}: not a mixed test"
+            );
+            let tangent: Vec<(usize, [f64; 6])> =
+                starts.iter().map(|&(c, p)| (c, [p[0], p[1], 1.0, 0.0, 0.0, 1.0])).collect();
+            let mut got = vec![None; tangent.len()];
+            exits_together(&Tangent(&field), &tangent, t0, horizon, n, h, from, calls, |c, out| {
+                got[c] = Some(out);
+            });
+            for &(c, y) in &tangent {
+                let want = resume_rk4(&Tangent(&field), y, t0, horizon, n, h, from, calls);
+                assert_eq!(got[c], Some(want), "tangent member {c} from step {from}");
+            }
+        }
+    }
+
     /// The lanes integrator must reproduce `integrate_rk4` bit for bit (its documented
     /// contract), for completed trajectories and for ones that leave the window, whatever
     /// the order in which lanes finish and refill; also for a state with a tangent matrix.

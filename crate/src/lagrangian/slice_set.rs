@@ -90,8 +90,7 @@ impl<'f> SliceSet<'f> {
             return None;
         }
         let c = pair::pairs(&c);
-        let d = pair::gradient(&c, sx, sy, g.inv_dx, g.inv_dy);
-        Some((pair::lerp(&c, sx, sy), [[d[0][0], d[1][0]], [d[0][1], d[1][1]]]))
+        Some((pair::lerp(&c, sx, sy), pair::gradient(&c, sx, sy, g.inv_dx, g.inv_dy)))
     }
 }
 

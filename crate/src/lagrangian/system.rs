@@ -2,7 +2,7 @@
 //! a lone tracer, a tracer with its tangent matrix (the variational equation), and a tracer
 //! with four satellites (the auxiliary grid).
 
-use super::velocity::{Vec2, VelocityField};
+use super::velocity::{Mat2, Vec2, VelocityField};
 
 /// Right-hand side of an ODE system y′ = f(t, y) with `N` components. `None` when the
 /// velocity is undefined at some point the system needs.
@@ -31,15 +31,23 @@ impl<F: VelocityField> System<6> for Tangent<'_, F> {
     #[inline(always)]
     fn rhs(&self, t: f64, y: &[f64; 6]) -> Option<[f64; 6]> {
         let (u, g) = self.0.velocity_gradient([y[0], y[1]], t)?;
-        Some([
-            u[0],
-            u[1],
-            g[0][0] * y[2] + g[0][1] * y[4],
-            g[0][0] * y[3] + g[0][1] * y[5],
-            g[1][0] * y[2] + g[1][1] * y[4],
-            g[1][0] * y[3] + g[1][1] * y[5],
-        ])
+        Some(tangent_derivative(u, g, y))
     }
+}
+
+/// The derivative of the tangent system's state `y` = (x, y, M) from the velocity `u` and
+/// its gradient `g` at (x, y): (u, g M). One expression for every sampler (the field's and
+/// the lockstep slices'), so their results agree bit for bit.
+#[inline(always)]
+pub(super) fn tangent_derivative(u: Vec2, g: Mat2, y: &[f64; 6]) -> [f64; 6] {
+    [
+        u[0],
+        u[1],
+        g[0][0] * y[2] + g[0][1] * y[4],
+        g[0][0] * y[3] + g[0][1] * y[5],
+        g[1][0] * y[2] + g[1][1] * y[4],
+        g[1][0] * y[3] + g[1][1] * y[5],
+    ]
 }
 
 /// A tracer and four satellites at ±δ along x and y (METHODS.md §1 route (b)), advanced as

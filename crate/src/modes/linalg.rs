@@ -89,16 +89,14 @@ pub fn thin_svd_leading(
             Ok((svd, eig_s))
         }
         _ => {
-            let mut svd = svd_direct(y, usize::MAX);
-            let all = svd.as_ref().map(|s| s.s.clone()).unwrap_or_default();
+            let mut svd = svd_direct(y, usize::MAX)?;
+            let all = svd.s.clone();
             let r = keep(&all)?.min(all.len());
             progress.advance(svd_work(y.nrows(), y.ncols(), route, r));
-            if let Ok(s) = svd.as_mut() {
-                s.u = s.u.subcols(0, r).to_owned();
-                s.v = s.v.subcols(0, r).to_owned();
-                s.s.truncate(r);
-            }
-            Ok((svd?, all))
+            svd.u = svd.u.subcols(0, r).to_owned();
+            svd.v = svd.v.subcols(0, r).to_owned();
+            svd.s.truncate(r);
+            Ok((svd, all))
         }
     }
 }
