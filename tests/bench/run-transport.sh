@@ -123,9 +123,15 @@ print(f"target native >= 20 M tracer-steps/s on one core: {nat / 1e6:.1f} M -> "
       f"{'met' if nat >= 20e6 else 'missed'}")
 print(f"target wasm within 1.5x of native: {nat / wsm:.2f}x -> "
       f"{'met' if nat / wsm <= 1.5 else 'missed'}")
-sp = nat / best_np["steps_per_s"]
+# The same problem on both sides: compare the time to solve it. (Rates would flatter
+# sillage: its tracer-steps include the bisection steps that place each exit, work the
+# numpy script does not do.)
+nat_s = native["flow_map"]["best_s"]
+sp = best_np["best_s"] / nat_s
+rate_sp = nat / best_np["steps_per_s"]
 print(f"target >= 15x the numpy/scipy script ({best_np['method']}), one core each: "
-      f"{sp:.1f}x -> {'met' if sp >= 15 else 'missed'}")
+      f"{best_np['best_s']:.3f} s / {nat_s:.3f} s = {sp:.1f}x faster on the same problem "
+      f"({rate_sp:.1f}x in tracer-steps/s) -> {'met' if sp >= 15 else 'missed'}")
 if crit:
     par = [v for (g, b), v in crit.items() if g == "flow_map" and b != "serial"]
     ser = crit.get(("flow_map", "serial"))

@@ -10,7 +10,10 @@
 //! tracers on the demo), and a sample is four 16-byte loads and the bilinear weights.
 //! Steps are the outer loop, tracers the inner one, in blocks small enough that a block's
 //! stage derivatives stay in the L1 cache; the stages of a block are separate passes, so
-//! consecutive samples are independent and overlap on the processor.
+//! consecutive samples are independent and overlap on the processor, and each stage is
+//! itself two passes (place every stage point on the grid, then read the corners and
+//! interpolate), which halves the chain of dependent operations the processor must keep
+//! in flight per sample ([`stage`]).
 //!
 //! Results are bit-identical to [`integrate_rk4`](super::integrate_rk4) on the same field:
 //! a slice node holds w₀a + w₁b with the weights the field's own sample computes (the same
@@ -36,12 +39,18 @@
 //! made the flow map 1.19× and the variational FTLE 1.31× faster natively, the flow map
 //! 1.15× in wasm (same machine, minutes apart). Compacting the tracers in flight every
 //! [`COMPACT_EVERY`] steps instead of every step made the flow map 1.03× faster natively
-//! and 1.16× in wasm. The exits, located per tracer on the field, take about a seventh of
-//! the flow map's time on the demo problem (perf).
+//! and 1.16× in wasm. A sample is bound by latency, not by instruction count: its chain
+//! (stage point, cell, corner loads, interpolation) is about 50 cycles long, and a locator
+//! with 15 % fewer instructions but a longer chain was no faster. Splitting each stage
+//! into a placing and an interpolating pass made the flow map 1.3× and the variational
+//! FTLE 1.35× faster natively; in wasm the split is worth it only with the pair locator
+//! ([`locate_in_pairs`]: one instruction per clamp, no trap check on the conversion),
+//! together 1.2× for the flow map. The exits, located per tracer on the field, take about
+//! a seventh of the flow map's time on the demo problem (perf).
 
 use super::gridded::{Bracket, GriddedField, SliceSource, EDGE_TOL};
 use super::outcome::{Outcome, Stop};
-use super::pair;
+use super::pair::{self, Pair};
 use super::rk4::{exits_together, resume_rk4, stage_input, step_count};
 use super::system::{tangent_derivative, System, Tangent, Tracer};
 use super::tableau::{combine, RK4};
@@ -59,21 +68,24 @@ const COMPACT_EVERY: u64 = 8;
 /// integrator takes them (at the start, and when exits thin the set out).
 pub(super) const MIN_TRACERS: usize = 16;
 
-/// The grid geometry of a sample, as the field's own sample sees it.
+/// The grid geometry of a sample, as the field's own sample sees it; x and y side by side
+/// ([`locate_in_pairs`] loads them as pairs).
 #[derive(Debug, Clone, Copy)]
 pub(super) struct Geometry {
-    x0: f64,
-    y0: f64,
-    pub(super) inv_dx: f64,
-    pub(super) inv_dy: f64,
-    /// nx − 1, ny − 1: the last node, in cells.
-    mx: f64,
-    my: f64,
-    /// nx − 2, ny − 2: the last cell, as f64.
-    last_x: f64,
-    pub(super) last_y: f64,
+    /// (x₀, y₀): the first node.
+    origin: [f64; 2],
+    /// (1/Δx, 1/Δy).
+    pub(super) inv_d: [f64; 2],
+    /// (nx − 1, ny − 1): the last node, in cells.
+    max_node: [f64; 2],
+    /// The window's far edges in cells, with the tolerance: (nx − 1, ny − 1) + EDGE_TOL.
+    upper: [f64; 2],
+    /// (nx − 2, ny − 2): the last cell.
+    pub(super) max_cell: [f64; 2],
     pub(super) nx: usize,
     ny: usize,
+    /// nx as f64, for the node index of [`locate_in_pairs`].
+    nx_f64: f64,
 }
 
 impl Geometry {
@@ -81,17 +93,16 @@ impl Geometry {
         let (nx, ny) = (src.nx, src.ny);
         // What `locate`'s conversions rely on (the field checks the same for its own path).
         assert!(nx >= 2 && ny >= 2 && nx.max(ny) <= i32::MAX as usize, "grid {nx}×{ny}");
+        let max_node = [(nx - 1) as f64, (ny - 1) as f64];
         Geometry {
-            x0: src.x0,
-            y0: src.y0,
-            inv_dx: src.inv_dx,
-            inv_dy: src.inv_dy,
-            mx: (nx - 1) as f64,
-            my: (ny - 1) as f64,
-            last_x: (nx - 2) as f64,
-            last_y: (ny - 2) as f64,
+            origin: [src.x0, src.y0],
+            inv_d: [src.inv_dx, src.inv_dy],
+            max_node,
+            upper: max_node.map(|m| m + EDGE_TOL),
+            max_cell: [(nx - 2) as f64, (ny - 2) as f64],
             nx,
             ny,
+            nx_f64: nx as f64,
         }
     }
 }
@@ -173,6 +184,7 @@ impl Slice {
 /// `v` limited to [0, max], exactly as the field clamps (the same value for every `v`
 /// that is not NaN), with NaN mapped to 0: two selects, no branch, and an index that is
 /// in range whatever the input.
+#[cfg_attr(target_arch = "wasm32", allow(dead_code))]
 #[inline(always)]
 fn clamp_to_grid(v: f64, max: f64) -> f64 {
     let v = if v >= 0.0 { v } else { 0.0 };
@@ -187,24 +199,58 @@ fn clamp_to_grid(v: f64, max: f64) -> f64 {
 /// locates it, and whether `p` is in the window. Branch-free: a point outside (or NaN)
 /// still yields a valid cell, whose values the caller discards. The node index is always
 /// that of a cell's first corner: `node + nx + 1 < nx·ny`, which [`corners`] relies on.
+#[cfg_attr(target_arch = "wasm32", allow(dead_code))]
 #[inline(always)]
 pub(super) fn locate(g: &Geometry, p: &[f64]) -> (bool, usize, f64, f64) {
-    let fx = (p[0] - g.x0) * g.inv_dx;
-    let fy = (p[1] - g.y0) * g.inv_dy;
+    let fx = (p[0] - g.origin[0]) * g.inv_d[0];
+    let fy = (p[1] - g.origin[1]) * g.inv_d[1];
     // Non-short-circuit `&`: one combined test, no branch.
-    let inside =
-        (fx >= -EDGE_TOL) & (fx <= g.mx + EDGE_TOL) & (fy >= -EDGE_TOL) & (fy <= g.my + EDGE_TOL);
-    let (fx, fy) = (clamp_to_grid(fx, g.mx), clamp_to_grid(fy, g.my));
+    let inside = (fx >= -EDGE_TOL) & (fx <= g.upper[0]) & (fy >= -EDGE_TOL) & (fy <= g.upper[1]);
+    let (fx, fy) = (clamp_to_grid(fx, g.max_node[0]), clamp_to_grid(fy, g.max_node[1]));
     // The field takes i = min(⌊fx⌋, nx − 2); fx ≤ nx − 1, so limiting before the floor
     // gives the same i. Both values lie in [0, last] ⊂ [0, i32::MAX] (not NaN), where the
     // truncating conversion is exact and is the floor.
     let below = |v: f64, max: f64| if v > max { max } else { v };
-    let (cx, cy) = (below(fx, g.last_x), below(fy, g.last_y));
+    let (cx, cy) = (below(fx, g.max_cell[0]), below(fy, g.max_cell[1]));
     // SAFETY: cx and cy are finite, in [0, last_i] and [0, last_j], and those fit in i32
     // (checked when the geometry is made).
     let (i, j) = unsafe { (cx.to_int_unchecked::<i32>(), cy.to_int_unchecked::<i32>()) };
     let (sx, sy) = (fx - i as f64, fy - j as f64);
     (inside, j as usize * g.nx + i as usize, sx, sy)
+}
+
+/// [`locate`] with x and y as one pair of lanes: the same operations per lane, the same
+/// results bit for bit (`locate_in_pairs_is_locate` checks), in fewer instructions where
+/// the scalar selects are costly. The page's WebAssembly build uses it: its scalar
+/// conversion checks for a trap on every float → int, and its selects become branches,
+/// whereas a pair's clamps are one instruction each and the cell index comes from the
+/// bits of an exact sum (below).
+#[cfg_attr(not(target_arch = "wasm32"), allow(dead_code))]
+#[inline(always)]
+pub(super) fn locate_in_pairs(g: &Geometry, p: &[f64; 2]) -> (bool, usize, f64, f64) {
+    let f = Pair::load(p).sub(Pair::load(&g.origin)).mul(Pair::load(&g.inv_d));
+    let inside = f.within(Pair::splat(-EDGE_TOL), Pair::load(&g.upper));
+    // The field's clamp to [0, n − 1] (NaN to 0), then the cell limit before the floor, as
+    // in `locate`; all values in [0, last] here, where the floor is exact.
+    let f = f.non_negative().at_most(Pair::load(&g.max_node));
+    let cell = f.at_most(Pair::load(&g.max_cell)).floor_in_range();
+    let [sx, sy] = f.sub(cell).get();
+    let [i, j] = cell.get();
+    // j·nx + i is an integer below 2⁵² (a node index), so adding 2⁵² is exact and leaves
+    // it in the low mantissa bits: an index without a float → int conversion.
+    const TWO_52: f64 = 4_503_599_627_370_496.0;
+    let node = ((j * g.nx_f64 + i + TWO_52).to_bits() & ((1 << 52) - 1)) as usize;
+    (inside, node, sx, sy)
+}
+
+/// [`locate`] natively, [`locate_in_pairs`] in the WebAssembly build: each is the faster
+/// on its target (BENCHMARKS.md, "Transport"), and the results are the same.
+#[inline(always)]
+pub(super) fn place(g: &Geometry, p: &[f64; 2]) -> (bool, usize, f64, f64) {
+    #[cfg(not(target_arch = "wasm32"))]
+    return locate(g, p);
+    #[cfg(target_arch = "wasm32")]
+    return locate_in_pairs(g, p);
 }
 
 /// The four corners (i, j), (i+1, j), (i, j+1), (i+1, j+1) of the cell at `node`, (u, v)
@@ -222,9 +268,38 @@ pub(super) fn corners(s: &Slice, g: &Geometry, node: usize) -> ([[f64; 2]; 4], b
     }
 }
 
-/// A right-hand side evaluated on a slice: the derivative, and whether the point had data.
+/// A stage point placed on the slice grid by [`locate`]: the first corner of its cell, the
+/// fractions in it, and whether it is in the window. The first pass of a stage computes
+/// these for a whole block, the second reads the corners.
+#[derive(Debug, Clone, Copy, Default)]
+struct Located {
+    inside: bool,
+    node: usize,
+    sx: f64,
+    sy: f64,
+}
+
+impl Located {
+    #[inline(always)]
+    fn of(g: &Geometry, p: &[f64; 2]) -> Located {
+        let (inside, node, sx, sy) = place(g, p);
+        Located { inside, node, sx, sy }
+    }
+}
+
+/// A right-hand side evaluated on a slice, at a point [`locate`]d beforehand.
 trait SliceRhs<const N: usize> {
-    fn rhs(g: &Geometry, s: &Slice, y: &[f64; N]) -> ([f64; N], bool);
+    /// The derivative at the stage point `y` (given lazily: only some systems need more
+    /// than its place), and whether its cell has data (the window test is the caller's).
+    fn at(g: &Geometry, s: &Slice, at: &Located, y: impl FnOnce() -> [f64; N]) -> ([f64; N], bool);
+
+    /// Locate and evaluate in one go, with the window test: the whole sample, for tests.
+    #[cfg(test)]
+    fn rhs(g: &Geometry, s: &Slice, y: &[f64; N]) -> ([f64; N], bool) {
+        let at = Located::of(g, &[y[0], y[1]]);
+        let (d, has) = Self::at(g, s, &at, || *y);
+        (d, has & at.inside)
+    }
 }
 
 /// dx/dt = u(x, t): [`Tracer`] on a slice.
@@ -232,10 +307,9 @@ struct Positions;
 
 impl SliceRhs<2> for Positions {
     #[inline(always)]
-    fn rhs(g: &Geometry, s: &Slice, y: &[f64; 2]) -> ([f64; 2], bool) {
-        let (inside, node, sx, sy) = locate(g, y);
-        let (c, has) = corners(s, g, node);
-        (pair::lerp(&pair::pairs(&c), sx, sy), inside & has)
+    fn at(g: &Geometry, s: &Slice, at: &Located, _: impl FnOnce() -> [f64; 2]) -> ([f64; 2], bool) {
+        let (c, has) = corners(s, g, at.node);
+        (pair::lerp(&pair::pairs(&c), at.sx, at.sy), has)
     }
 }
 
@@ -245,12 +319,11 @@ struct TangentPositions;
 
 impl SliceRhs<6> for TangentPositions {
     #[inline(always)]
-    fn rhs(g: &Geometry, s: &Slice, y: &[f64; 6]) -> ([f64; 6], bool) {
-        let (inside, node, sx, sy) = locate(g, y);
-        let (c, has) = corners(s, g, node);
+    fn at(g: &Geometry, s: &Slice, at: &Located, y: impl FnOnce() -> [f64; 6]) -> ([f64; 6], bool) {
+        let (c, has) = corners(s, g, at.node);
         let c = pair::pairs(&c);
-        let grad = pair::gradient(&c, sx, sy, g.inv_dx, g.inv_dy);
-        (tangent_derivative(pair::lerp(&c, sx, sy), grad, y), inside & has)
+        let grad = pair::gradient(&c, at.sx, at.sy, g.inv_d[0], g.inv_d[1]);
+        (tangent_derivative(pair::lerp(&c, at.sx, at.sy), grad, &y()), has)
     }
 }
 
@@ -338,7 +411,7 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
         (a.min(cell_row(t.y[1])), b.max(cell_row(t.y[1])))
     });
     let band = |lo: f64, hi: f64, extra: f64| {
-        let last = g.last_y;
+        let last = g.max_cell[1];
         let a = (lo - reach - extra).floor().clamp(0.0, last) as usize;
         let b = (hi + reach + extra).floor().clamp(0.0, last) as usize;
         (a.min(b), b)
@@ -348,6 +421,7 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
     let mut slices = [Slice::new(g.nx, g.ny), Slice::new(g.nx, g.ny), Slice::new(g.nx, g.ny)];
     let mut k = vec![[[0.0f64; N]; 4]; BLOCK];
     let mut ok = [true; BLOCK];
+    let mut places = [Located::default(); BLOCK];
     // Tracers whose step failed, handed to the per-tracer integrator together; how many of
     // them are still in `active` (dropped at the next compaction).
     let mut handover: Vec<(usize, [f64; N])> = Vec::new();
@@ -373,10 +447,10 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
         for block in active.chunks_mut(BLOCK) {
             let m = block.len();
             ok[..m].fill(true);
-            stage::<0, N, K>(&g, sa, h, block, &mut k, &mut ok);
-            stage::<1, N, K>(&g, sb, h, block, &mut k, &mut ok);
-            stage::<2, N, K>(&g, sb, h, block, &mut k, &mut ok);
-            stage::<3, N, K>(&g, sc, h, block, &mut k, &mut ok);
+            stage::<0, N, K>(&g, sa, h, block, &mut k, &mut ok, &mut places);
+            stage::<1, N, K>(&g, sb, h, block, &mut k, &mut ok, &mut places);
+            stage::<2, N, K>(&g, sb, h, block, &mut k, &mut ok, &mut places);
+            stage::<3, N, K>(&g, sc, h, block, &mut k, &mut ok, &mut places);
             for ((tr, kl), &good) in block.iter_mut().zip(&k).zip(&ok) {
                 if tr.failed {
                     // Handed over at an earlier step, waiting for the next compaction.
@@ -448,8 +522,15 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
     }
 }
 
-/// RK4 stage `I` of every tracer of a block on slice `s`. A tracer whose stage point has no
-/// data is marked in `ok` and its later stages are computed and discarded (no branch).
+/// RK4 stage `I` of every tracer of a block on slice `s`, in two passes: place every stage
+/// point on the grid, then read the corners and interpolate. A tracer whose stage point has
+/// no data is marked in `ok` and its later stages are computed and discarded (no branch).
+///
+/// Why two passes: a sample is one long chain of dependent operations (stage point, cell,
+/// corner loads, interpolation; about 50 cycles), and the processor overlaps only as many
+/// samples as its reorder window holds. Split in two, each chain is about half as long and
+/// twice as many are in flight (measured: the flow map's lockstep loop 1.4× faster natively
+/// on its own; BENCHMARKS.md, "Transport").
 #[inline(always)]
 fn stage<const I: usize, const N: usize, K: SliceRhs<N>>(
     g: &Geometry,
@@ -458,12 +539,17 @@ fn stage<const I: usize, const N: usize, K: SliceRhs<N>>(
     block: &[Track<N>],
     k: &mut [[[f64; N]; 4]],
     ok: &mut [bool; BLOCK],
+    places: &mut [Located; BLOCK],
 ) {
-    for ((tr, kl), good) in block.iter().zip(k.iter_mut()).zip(ok.iter_mut()) {
+    for ((tr, kl), place) in block.iter().zip(k.iter()).zip(places.iter_mut()) {
         let yi = stage_input(I, h, &tr.y, kl);
-        let (d, has) = K::rhs(g, s, &yi);
+        *place = Located::of(g, &[yi[0], yi[1]]);
+    }
+    for (((tr, kl), good), place) in block.iter().zip(k.iter_mut()).zip(ok.iter_mut()).zip(&*places)
+    {
+        let (d, has) = K::at(g, s, place, || stage_input(I, h, &tr.y, kl));
         kl[I] = d;
-        *good &= has;
+        *good &= has & place.inside;
     }
 }
 
@@ -537,6 +623,45 @@ mod tests {
             }
             assert!(Positions::rhs(&g, &slice, &[0.5, 0.45]).1, "inside the band");
         }
+    }
+
+    /// Both locators give the same window test, cell and fractions, bit for bit: at random
+    /// points in and around the window, on nodes and cell faces, within the edge tolerance,
+    /// at −0, NaN and infinities. (The test runs natively; the lane operations' meaning on
+    /// each target is documented in `pair.rs`.)
+    #[test]
+    fn locate_in_pairs_is_locate() {
+        let s = sample_series(
+            &DoubleGyre::periodic(),
+            &linspace(-0.3, 2.0, 24),
+            &linspace(0.1, 1.0, 13),
+            &linspace(0.0, 1.0, 2),
+        )
+        .unwrap();
+        let field = GriddedField::new(&s, SpaceInterp::Bilinear, TimeInterp::Linear);
+        let g = Geometry::of(&field.slice_source());
+        let mut rng = rand_pcg::Pcg64::seed_from_u64(5);
+        let mut values: Vec<f64> = (0..400).map(|_| rng.random::<f64>() * 3.0 - 0.6).collect();
+        let (dx, dy) = (1.0 / g.inv_d[0], 1.0 / g.inv_d[1]);
+        for k in 0..24 {
+            values.push(-0.3 + k as f64 * dx);
+            values.push(0.1 + k as f64 * dy);
+        }
+        let tol = 0.5 * EDGE_TOL * dx;
+        values.extend([-0.3 - tol, -0.3 + tol, 2.0 + tol, 2.0 - tol, 1.0 + tol, 0.1 - tol]);
+        values.extend([-0.0, 0.0, f64::NAN, f64::INFINITY, f64::NEG_INFINITY, 1e300, -1e300]);
+        let bits = |(inside, node, sx, sy): (bool, usize, f64, f64)| {
+            (inside, node, sx.to_bits(), sy.to_bits())
+        };
+        let mut inside = 0;
+        for &x in &values {
+            for &y in &values {
+                let want = locate(&g, &[x, y]);
+                assert_eq!(bits(locate_in_pairs(&g, &[x, y])), bits(want), "at ({x}, {y})");
+                inside += want.0 as usize;
+            }
+        }
+        assert!(inside > 10_000, "{inside} points inside");
     }
 
     /// The lockstep integrator called directly (not through the engine's choice) against

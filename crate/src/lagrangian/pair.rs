@@ -20,6 +20,9 @@ mod lanes {
     #[derive(Clone, Copy)]
     pub struct Pair(__m128d);
 
+    // The comparisons and clamps serve `locate_in_pairs`, which the WebAssembly build uses
+    // (and the tests check against the scalar locator natively).
+    #[cfg_attr(not(test), allow(dead_code))]
     impl Pair {
         #[inline(always)]
         pub fn load(a: &[f64; 2]) -> Pair {
@@ -52,6 +55,30 @@ mod lanes {
             // SAFETY: SSE2 is part of x86-64; the store writes the two values of `out`.
             unsafe { _mm_storeu_pd(out.as_mut_ptr(), self.0) };
             out
+        }
+        #[inline(always)]
+        pub fn non_negative(self) -> Pair {
+            // SAFETY: SSE2 is part of x86-64.
+            unsafe { Pair(_mm_and_pd(_mm_cmpge_pd(self.0, _mm_setzero_pd()), self.0)) }
+        }
+        #[inline(always)]
+        pub fn at_most(self, max: Pair) -> Pair {
+            // minpd: self < max ? self : max.
+            // SAFETY: SSE2 is part of x86-64.
+            unsafe { Pair(_mm_min_pd(self.0, max.0)) }
+        }
+        #[inline(always)]
+        pub fn within(self, lo: Pair, hi: Pair) -> bool {
+            // SAFETY: SSE2 is part of x86-64.
+            unsafe {
+                let both = _mm_and_pd(_mm_cmpge_pd(self.0, lo.0), _mm_cmple_pd(self.0, hi.0));
+                _mm_movemask_pd(both) == 3
+            }
+        }
+        #[inline(always)]
+        pub fn floor_in_range(self) -> Pair {
+            // SAFETY: SSE2 is part of x86-64; the lanes fit in i32 (the caller's contract).
+            unsafe { Pair(_mm_cvtepi32_pd(_mm_cvttpd_epi32(self.0))) }
         }
     }
 }
@@ -88,6 +115,23 @@ mod lanes {
         pub fn get(self) -> [f64; 2] {
             [f64x2_extract_lane::<0>(self.0), f64x2_extract_lane::<1>(self.0)]
         }
+        #[inline(always)]
+        pub fn non_negative(self) -> Pair {
+            Pair(v128_and(f64x2_ge(self.0, f64x2_splat(0.0)), self.0))
+        }
+        #[inline(always)]
+        pub fn at_most(self, max: Pair) -> Pair {
+            // pmin(a, b) = b < a ? b : a: one minpd, unlike f64x2_min's NaN handling.
+            Pair(f64x2_pmin(self.0, max.0))
+        }
+        #[inline(always)]
+        pub fn within(self, lo: Pair, hi: Pair) -> bool {
+            i64x2_bitmask(v128_and(f64x2_ge(self.0, lo.0), f64x2_le(self.0, hi.0))) == 3
+        }
+        #[inline(always)]
+        pub fn floor_in_range(self) -> Pair {
+            Pair(f64x2_floor(self.0))
+        }
     }
 }
 
@@ -96,6 +140,7 @@ mod lanes {
     #[derive(Clone, Copy)]
     pub struct Pair([f64; 2]);
 
+    #[cfg_attr(not(test), allow(dead_code))]
     impl Pair {
         #[inline(always)]
         pub fn load(a: &[f64; 2]) -> Pair {
@@ -121,10 +166,35 @@ mod lanes {
         pub fn get(self) -> [f64; 2] {
             self.0
         }
+        #[inline(always)]
+        pub fn non_negative(self) -> Pair {
+            Pair(self.0.map(|v| if v >= 0.0 { v } else { 0.0 }))
+        }
+        #[inline(always)]
+        pub fn at_most(self, max: Pair) -> Pair {
+            Pair([0, 1].map(|i| if self.0[i] < max.0[i] { self.0[i] } else { max.0[i] }))
+        }
+        #[inline(always)]
+        pub fn within(self, lo: Pair, hi: Pair) -> bool {
+            (0..2).all(|i| self.0[i] >= lo.0[i] && self.0[i] <= hi.0[i])
+        }
+        #[inline(always)]
+        pub fn floor_in_range(self) -> Pair {
+            Pair(self.0.map(|v| v as i32 as f64))
+        }
     }
 }
 
 pub(super) use lanes::Pair;
+
+// What the lane operations without a doc comment above do, on every backend:
+// - `non_negative`: per lane `v >= 0 ? v : +0`: −0 stays, NaN becomes +0 (one compare and
+//   one mask, no branch).
+// - `at_most(max)`: per lane `v < max ? v : max` for `v` not NaN, which is `min(v, max)`
+//   with the value of `max` when they are equal (minpd natively, pmin in wasm: one
+//   instruction each, where `f64::min`'s NaN rules cost a branch per lane).
+// - `within(lo, hi)`: both lanes in `[lo, hi]` (false for NaN).
+// - `floor_in_range`: ⌊v⌋ per lane for `v` in [0, i32::MAX] (truncation there), exact.
 
 impl Pair {
     /// The pair (a, b).

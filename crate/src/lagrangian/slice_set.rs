@@ -9,7 +9,7 @@
 //! of an exiting tracer does, computes exactly what the per-tracer path computes.
 
 use super::gridded::{GriddedField, SliceSource};
-use super::lockstep::{corners, locate, max_abs_v, Geometry, Slice};
+use super::lockstep::{corners, max_abs_v, place, Geometry, Slice};
 use super::pair;
 use super::velocity::{Mat2, Vec2};
 
@@ -52,7 +52,7 @@ impl<'f> SliceSet<'f> {
     pub(crate) fn hold(&mut self, k: usize, t: f64, y_lo: f64, y_hi: f64) {
         let row = |y: f64| (y - self.src.y0) * self.src.inv_dy;
         let (lo, hi) = (row(y_lo), row(y_hi));
-        let last = self.geom.last_y;
+        let last = self.geom.max_cell[1];
         let band = |extra: f64| {
             let a = (lo - self.reach - extra).floor().clamp(0.0, last) as usize;
             let b = (hi + self.reach + extra).floor().clamp(0.0, last) as usize;
@@ -74,7 +74,7 @@ impl<'f> SliceSet<'f> {
     /// rows the slice holds.
     #[inline(always)]
     pub(crate) fn velocity(&self, k: usize, p: Vec2) -> Option<Vec2> {
-        let (inside, node, sx, sy) = locate(&self.geom, &p);
+        let (inside, node, sx, sy) = place(&self.geom, &p);
         let (c, has) = corners(&self.slices[k], &self.geom, node);
         (inside & has).then(|| pair::lerp(&pair::pairs(&c), sx, sy))
     }
@@ -84,13 +84,13 @@ impl<'f> SliceSet<'f> {
     #[inline(always)]
     pub(crate) fn velocity_gradient(&self, k: usize, p: Vec2) -> Option<(Vec2, Mat2)> {
         let g = &self.geom;
-        let (inside, node, sx, sy) = locate(g, &p);
+        let (inside, node, sx, sy) = place(g, &p);
         let (c, has) = corners(&self.slices[k], g, node);
         if !(inside & has) {
             return None;
         }
         let c = pair::pairs(&c);
-        Some((pair::lerp(&c, sx, sy), pair::gradient(&c, sx, sy, g.inv_dx, g.inv_dy)))
+        Some((pair::lerp(&c, sx, sy), pair::gradient(&c, sx, sy, g.inv_d[0], g.inv_d[1])))
     }
 }
 

@@ -44,7 +44,8 @@ pub(super) fn tile_size(n: usize) -> usize {
 /// The perturbation on a tile's steps: slices of its own when it is sliceable gridded data
 /// (on any grid: slices carry their own geometry), else the field's own samples.
 pub(super) enum PerturbationSamples<'f, G> {
-    Slices(SliceSet<'f>),
+    // Boxed: the slices' geometry is large next to a reference.
+    Slices(Box<SliceSet<'f>>),
     Field(&'f G),
 }
 

@@ -316,7 +316,7 @@ fn trajectories<F: VelocityField, G: VelocityField>(
     match lockstep_field(f) {
         Some(fg) if seeds.len() >= MIN_TILE && size >= MIN_TILE => {
             let mut gs = match lockstep_field(g) {
-                Some(gg) => PerturbationSamples::Slices(SliceSet::new(gg, 1, None)),
+                Some(gg) => PerturbationSamples::Slices(Box::new(SliceSet::new(gg, 1, None))),
                 None => PerturbationSamples::Field(g),
             };
             let mut bufs = TileBuffers::default();
