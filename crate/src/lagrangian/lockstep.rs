@@ -272,16 +272,16 @@ pub(super) fn corners(s: &Slice, g: &Geometry, node: usize) -> ([[f64; 2]; 4], b
 /// fractions in it, and whether it is in the window. The first pass of a stage computes
 /// these for a whole block, the second reads the corners.
 #[derive(Debug, Clone, Copy, Default)]
-struct Located {
-    inside: bool,
-    node: usize,
-    sx: f64,
-    sy: f64,
+pub(crate) struct Located {
+    pub(super) inside: bool,
+    pub(super) node: usize,
+    pub(super) sx: f64,
+    pub(super) sy: f64,
 }
 
 impl Located {
     #[inline(always)]
-    fn of(g: &Geometry, p: &[f64; 2]) -> Located {
+    pub(super) fn of(g: &Geometry, p: &[f64; 2]) -> Located {
         let (inside, node, sx, sy) = place(g, p);
         Located { inside, node, sx, sy }
     }

@@ -52,6 +52,7 @@ pub use ftle::{
     FtleRows, FtleStats, GradientRoute,
 };
 pub use gridded::{GriddedField, SpaceInterp, TimeInterp};
+pub(crate) use lockstep::Located;
 pub use outcome::{Outcome, Stop};
 pub use ridges::{extract_ridges, Ridge, RidgeOptions};
 pub use rk4::{integrate_rk4, rk4_step, step_count, EXIT_BISECTIONS};

@@ -9,7 +9,7 @@
 //! of an exiting tracer does, computes exactly what the per-tracer path computes.
 
 use super::gridded::{GriddedField, SliceSource};
-use super::lockstep::{corners, max_abs_v, place, Geometry, Slice};
+use super::lockstep::{corners, max_abs_v, Geometry, Located, Slice};
 use super::pair;
 use super::velocity::{Mat2, Vec2};
 
@@ -74,23 +74,40 @@ impl<'f> SliceSet<'f> {
     /// rows the slice holds.
     #[inline(always)]
     pub(crate) fn velocity(&self, k: usize, p: Vec2) -> Option<Vec2> {
-        let (inside, node, sx, sy) = place(&self.geom, &p);
-        let (c, has) = corners(&self.slices[k], &self.geom, node);
-        (inside & has).then(|| pair::lerp(&pair::pairs(&c), sx, sy))
+        let at = self.place(p);
+        let (c, has) = corners(&self.slices[k], &self.geom, at.node);
+        (at.inside & has).then(|| pair::lerp(&pair::pairs(&c), at.sx, at.sy))
     }
 
     /// The velocity and its gradient `[[∂u/∂x, ∂u/∂y], [∂v/∂x, ∂v/∂y]]` at `p` on slice
-    /// `k`, the bilinear interpolant's gradient written as the field writes it.
-    #[inline(always)]
+    /// `k`, the bilinear interpolant's gradient written as the field writes it (the tests'
+    /// one-call form of [`Self::place`] and [`Self::velocity_gradient_at`]).
+    #[cfg(test)]
     pub(crate) fn velocity_gradient(&self, k: usize, p: Vec2) -> Option<(Vec2, Mat2)> {
+        self.velocity_gradient_at(k, &self.place(p))
+    }
+
+    /// Where `p` lies on the slices' grid (the same for every slice of the set). A stage
+    /// over many tracers places all their points first, then samples them
+    /// ([`Self::velocity_gradient_at`]): two short chains of dependent operations per
+    /// sample instead of one long one, so more samples overlap on the processor (the
+    /// flow map's `lockstep::stage` does the same).
+    #[inline(always)]
+    pub(crate) fn place(&self, p: Vec2) -> Located {
+        Located::of(&self.geom, &p)
+    }
+
+    /// [`Self::velocity_gradient`] at a point [`Self::place`]d beforehand.
+    #[inline(always)]
+    pub(crate) fn velocity_gradient_at(&self, k: usize, at: &Located) -> Option<(Vec2, Mat2)> {
         let g = &self.geom;
-        let (inside, node, sx, sy) = place(g, &p);
-        let (c, has) = corners(&self.slices[k], g, node);
-        if !(inside & has) {
+        let (c, has) = corners(&self.slices[k], g, at.node);
+        if !(at.inside & has) {
             return None;
         }
         let c = pair::pairs(&c);
-        Some((pair::lerp(&c, sx, sy), pair::gradient(&c, sx, sy, g.inv_d[0], g.inv_d[1])))
+        let grad = pair::gradient(&c, at.sx, at.sy, g.inv_d[0], g.inv_d[1]);
+        Some((pair::lerp(&c, at.sx, at.sy), grad))
     }
 }
 

@@ -25,7 +25,7 @@
 use super::trajectory::{
     combine_stages, finish, forward, stage_point, TrajectoryBuffer, TrajectorySensitivity,
 };
-use crate::lagrangian::{GriddedField, SliceSet, Vec2, VelocityField};
+use crate::lagrangian::{GriddedField, Located, SliceSet, Vec2, VelocityField};
 
 /// Upper bound on a tile's node storage: 24 MiB, small next to a tab's memory, and enough
 /// tracers (about 1,500 at 200 steps, a dozen rows of a 128-wide grid) that blending the
@@ -98,6 +98,7 @@ pub(super) fn tile<F: VelocityField, G: VelocityField>(
         seeds.iter().enumerate().map(|(i, &x)| Track { i, x, failed: false }).collect();
     let mut stages = [[([0.0; 2], [[0.0; 2]; 2]); 4]; BLOCK];
     let mut perturbation = [None; BLOCK];
+    let mut places = [Located::default(); BLOCK];
     for s in 0..n {
         // The time the per-tracer pass computes for step s.
         let t = t0 + s as f64 * h;
@@ -113,11 +114,14 @@ pub(super) fn tile<F: VelocityField, G: VelocityField>(
         if active.len() >= MIN_TILE {
             for block in active.chunks_mut(BLOCK) {
                 let m = block.len();
-                // Stage k samples slice 0, 1, 1, 2 at the point its predecessor gives.
+                // Stage k samples slice 0, 1, 1, 2 at the point its predecessor gives: all
+                // points of the block placed first, then sampled (`SliceSet::place`).
                 for (k, slice) in [0, 1, 1, 2].into_iter().enumerate() {
-                    for (tr, st) in block.iter_mut().zip(&mut stages[..m]) {
-                        let p = stage_point(k, h, tr.x, st[k.saturating_sub(1)].0);
-                        match fs.velocity_gradient(slice, p) {
+                    for ((tr, st), at) in block.iter().zip(&stages[..m]).zip(&mut places) {
+                        *at = fs.place(stage_point(k, h, tr.x, st[k.saturating_sub(1)].0));
+                    }
+                    for ((tr, st), at) in block.iter_mut().zip(&mut stages[..m]).zip(&places) {
+                        match fs.velocity_gradient_at(slice, at) {
                             Some(v) => st[k] = v,
                             None => tr.failed = true,
                         }
