@@ -162,9 +162,13 @@ impl Slice {
                 at(src.v, plane, first, &nodes),
                 at(src.v, plane, first + 1, &nodes),
             );
+            let (a, b) = (Pair::splat(w0), Pair::splat(w1));
             for (m, o) in out.iter_mut().enumerate() {
-                // The operation the field applies to each corner of a sample.
-                *o = [w0 * u0[m] as f64 + w1 * u1[m] as f64, w0 * v0[m] as f64 + w1 * v1[m] as f64];
+                // The operation the field applies to each corner of a sample, u and v as one
+                // pair of lanes (the same operations per lane).
+                let now = Pair::new(u0[m] as f64, v0[m] as f64);
+                let next = Pair::new(u1[m] as f64, v1[m] as f64);
+                *o = a.mul(now).add(b.mul(next)).get();
             }
         } else {
             // A steady series: the general stencil's 0 + w·a with its single weight.

@@ -103,7 +103,9 @@ pub(super) fn tile<F: VelocityField, G: VelocityField>(
         // The time the per-tracer pass computes for step s.
         let t = t0 + s as f64 * h;
         let (lo, hi) = active.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), tr| {
-            (a.min(tr.x[1]), b.max(tr.x[1]))
+            // Plain selects: `f64::min` and `max` are library calls in WebAssembly.
+            let y = tr.x[1];
+            (if y < a { y } else { a }, if y > b { y } else { b })
         });
         fs.hold(0, t, lo, hi);
         fs.hold(1, t + 0.5 * h, lo, hi);
