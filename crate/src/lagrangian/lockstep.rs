@@ -70,7 +70,7 @@ pub(super) const MIN_TRACERS: usize = 16;
 
 /// The grid geometry of a sample, as the field's own sample sees it; x and y side by side
 /// ([`locate_in_pairs`] loads them as pairs).
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub(super) struct Geometry {
     /// (x₀, y₀): the first node.
     origin: [f64; 2],

@@ -71,12 +71,24 @@ impl<'f> SliceSet<'f> {
     }
 
     /// The velocity at `p` on slice `k`; `None` where the field has none, or outside the
-    /// rows the slice holds.
-    #[inline(always)]
+    /// rows the slice holds (the tests' one-call form of [`Self::velocity_at`]).
+    #[cfg(test)]
     pub(crate) fn velocity(&self, k: usize, p: Vec2) -> Option<Vec2> {
-        let at = self.place(p);
+        self.velocity_at(k, &self.place(p))
+    }
+
+    /// [`Self::velocity`] at a point [`Self::place`]d beforehand (on this set or on one
+    /// with the [`Self::same_grid`]).
+    #[inline(always)]
+    pub(crate) fn velocity_at(&self, k: usize, at: &Located) -> Option<Vec2> {
         let (c, has) = corners(&self.slices[k], &self.geom, at.node);
         (at.inside & has).then(|| pair::lerp(&pair::pairs(&c), at.sx, at.sy))
+    }
+
+    /// Whether `other` places points exactly as this set does (same nodes, spacing and
+    /// size), so that its [`Located`] points serve here.
+    pub(crate) fn same_grid(&self, other: &SliceSet) -> bool {
+        self.geom == other.geom
     }
 
     /// The velocity and its gradient `[[∂u/∂x, ∂u/∂y], [∂v/∂x, ∂v/∂y]]` at `p` on slice

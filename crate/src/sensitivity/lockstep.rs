@@ -99,6 +99,10 @@ pub(super) fn tile<F: VelocityField, G: VelocityField>(
     let mut stages = [[([0.0; 2], [[0.0; 2]; 2]); 4]; BLOCK];
     let mut perturbation = [None; BLOCK];
     let mut places = [Located::default(); BLOCK];
+    // The tracers' own places (stage 0), reused for g's sample when g's slices share f's
+    // grid (g made of f's modes, the common case).
+    let mut at_tracers = [Located::default(); BLOCK];
+    let g_on_f_grid = matches!(gs, PerturbationSamples::Slices(set) if set.same_grid(&fs));
     for s in 0..n {
         // The time the per-tracer pass computes for step s.
         let t = t0 + s as f64 * h;
@@ -128,12 +132,27 @@ pub(super) fn tile<F: VelocityField, G: VelocityField>(
                             None => tr.failed = true,
                         }
                     }
+                    if k == 0 {
+                        // Stage 0's points are the tracers themselves, where g is sampled.
+                        at_tracers = places;
+                    }
                 }
-                for (tr, gk) in block.iter_mut().zip(&mut perturbation[..m]) {
-                    *gk = match gs {
-                        PerturbationSamples::Slices(set) => set.velocity(0, tr.x),
-                        PerturbationSamples::Field(g) => g.velocity(tr.x, t),
-                    };
+                match gs {
+                    PerturbationSamples::Slices(set) => {
+                        if !g_on_f_grid {
+                            for (tr, at) in block.iter().zip(&mut at_tracers) {
+                                *at = set.place(tr.x);
+                            }
+                        }
+                        for (gk, at) in perturbation[..m].iter_mut().zip(&at_tracers) {
+                            *gk = set.velocity_at(0, at);
+                        }
+                    }
+                    PerturbationSamples::Field(g) => {
+                        for (tr, gk) in block.iter().zip(&mut perturbation[..m]) {
+                            *gk = g.velocity(tr.x, t);
+                        }
+                    }
                 }
                 for ((tr, st), gk) in block.iter_mut().zip(&stages[..m]).zip(&perturbation[..m]) {
                     match gk {
