@@ -272,7 +272,7 @@ pub(super) fn corners(s: &Slice, g: &Geometry, node: usize) -> ([[f64; 2]; 4], b
     }
 }
 
-/// A stage point placed on the slice grid by [`locate`]: the first corner of its cell, the
+/// A stage point placed on the slice grid by [`place`]: the first corner of its cell, the
 /// fractions in it, and whether it is in the window. The first pass of a stage computes
 /// these for a whole block, the second reads the corners.
 #[derive(Debug, Clone, Copy, Default)]
@@ -291,7 +291,7 @@ impl Located {
     }
 }
 
-/// A right-hand side evaluated on a slice, at a point [`locate`]d beforehand.
+/// A right-hand side evaluated on a slice, at a point [`place`]d beforehand.
 trait SliceRhs<const N: usize> {
     /// The derivative at the stage point `y` (given lazily: only some systems need more
     /// than its place), and whether its cell has data (the window test is the caller's).
@@ -533,8 +533,8 @@ fn run<const N: usize, K: SliceRhs<N>, Sys: System<N>>(
 /// Why two passes: a sample is one long chain of dependent operations (stage point, cell,
 /// corner loads, interpolation; about 50 cycles), and the processor overlaps only as many
 /// samples as its reorder window holds. Split in two, each chain is about half as long and
-/// twice as many are in flight (measured: the flow map's lockstep loop 1.4× faster natively
-/// on its own; BENCHMARKS.md, "Transport").
+/// twice as many are in flight (measured: a stand-alone copy of this loop 1.45× faster
+/// natively, the whole flow map 1.3×; BENCHMARKS.md, "Transport").
 #[inline(always)]
 fn stage<const I: usize, const N: usize, K: SliceRhs<N>>(
     g: &Geometry,
